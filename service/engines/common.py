@@ -1,0 +1,115 @@
+"""What every engine returns: a modal solution, a sum of decaying exponentials.
+
+Both engines reduce the linear problem to u(x, t) = Σ_k b_k ψ_k(x) exp(−λ_k t), with
+u = c − c_final and ψ_k orthonormal under the body's weighted mean ⟨f⟩ = ∫ f r^m dr / ∫ r^m dr.
+The series engine's ψ_k are the exact eigenfunctions (truncated); the finite-volume engine's
+are the eigenvectors of its semi-discrete operator. Every measure is then a closed-form sum
+of exponentials, and a settling time is a root-find rather than time stepping.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import Protocol
+
+import numpy as np
+from numpy.typing import NDArray
+
+from service.physics import Case
+
+__all__ = ["Crossing", "Engine", "EngineRun", "ModalSolution", "TailBound"]
+
+FloatArray = NDArray[np.float64]
+
+
+@dataclass(frozen=True)
+class TailBound:
+    """Upper bounds on what truncation leaves out at one time: sup|u|, ⟨u²⟩ and the energy."""
+
+    sup: float
+    square: float
+    energy: float
+
+
+@dataclass(frozen=True)
+class ModalSolution:
+    """u(x, t) = Σ_k amplitudes[k] · ψ_k(x) · exp(−rates_per_s[k] · t).
+
+    Attributes
+    ----------
+    rates_per_s : decay rates λ_k = D·κ_k², ascending (κ_k the wavenumber in 1/m).
+    amplitudes : b_k = ⟨u0, ψ_k⟩.
+    mode_means : ⟨ψ_k⟩, so that ⟨u⟩ = Σ b_k ⟨ψ_k⟩ e^{−λ_k t}.
+    basis_at : positions in metres → matrix [positions, modes] of ψ_k values.
+    sample_positions_m, sample_basis : where the largest |u| is sought, and ψ_k there.
+    refine_max : whether a maximum found between samples is refined by a parabola.
+    valid_from_s : earliest time at which truncation stays below the accuracy asked.
+    tail : bounds on what truncation leaves out at a time (None when nothing is left out).
+    """
+
+    engine: str
+    resolution: int
+    diffusivity_m2_per_s: float
+    rates_per_s: FloatArray
+    amplitudes: FloatArray
+    mode_means: FloatArray
+    basis_at: Callable[[FloatArray], FloatArray]
+    sample_positions_m: FloatArray
+    sample_basis: FloatArray
+    refine_max: bool
+    valid_from_s: float
+    tail: Callable[[float], TailBound] | None = None
+
+    def decay(self, times_s: FloatArray) -> FloatArray:
+        """Matrix [times, modes] of exp(−λ_k t)."""
+        return np.exp(-np.outer(np.asarray(times_s, dtype=float), self.rates_per_s))
+
+    def weighted(self, times_s: FloatArray) -> FloatArray:
+        """Matrix [times, modes] of b_k exp(−λ_k t)."""
+        return self.decay(times_s) * self.amplitudes
+
+    def values_at(self, positions_m: FloatArray, times_s: FloatArray) -> FloatArray:
+        """u at positions (columns) and times (rows)."""
+        return self.weighted(times_s) @ self.basis_at(np.asarray(positions_m, dtype=float)).T
+
+
+@dataclass(frozen=True)
+class Crossing:
+    """What a settling search found on one solution."""
+
+    time_s: float
+    definition: str
+    hit_floor: bool
+    near_tangent: bool = False
+    holds_throughout: bool = False
+
+
+@dataclass(frozen=True)
+class EngineRun:
+    """An engine's final solution, the crossing found on it and the error estimate of its time."""
+
+    solution: ModalSolution
+    crossing: Crossing
+    estimated_relative_error: float
+    warnings: tuple[tuple[str, str], ...] = ()
+
+
+class Engine(Protocol):
+    """An engine turns a case into modal solutions and refines them until a time is trusted."""
+
+    name: str
+
+    def check(self, case: Case) -> None:
+        """Raise NotApplicable if this engine cannot do ``case``."""
+
+    def solution(self, case: Case, earliest_time_s: float) -> ModalSolution:
+        """A solution accurate for every t ≥ earliest_time_s."""
+
+    def settle(
+        self,
+        case: Case,
+        search: Callable[[ModalSolution, float], Crossing],
+        truncation_error: Callable[[ModalSolution, float], float],
+    ) -> EngineRun:
+        """Refine until the crossing ``search`` finds is accurate to ``case.accuracy``."""

@@ -1,0 +1,31 @@
+"""Plain physics objects in SI units: what a request means, with no web or validation code.
+
+A :class:`Case` is a homogeneous body (slab, long solid cylinder or solid sphere) with a
+constant diffusivity, a start given as a piecewise-linear profile across the body, one
+condition on every exposed surface and, optionally, a settling criterion. Geometry enters
+the numerics only as the metric exponent ``m`` (0 slab, 1 cylinder, 2 sphere).
+"""
+
+from __future__ import annotations
+
+from service.physics.case import (
+    Body,
+    Case,
+    Criterion,
+    Geometry,
+    Medium,
+    Start,
+    Surface,
+    SurfaceKind,
+)
+
+__all__ = [
+    "Body",
+    "Case",
+    "Criterion",
+    "Geometry",
+    "Medium",
+    "Start",
+    "Surface",
+    "SurfaceKind",
+]

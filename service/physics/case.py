@@ -1,0 +1,190 @@
+"""The dataclasses that describe one settling problem."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from enum import Enum, IntEnum
+
+import numpy as np
+from numpy.typing import NDArray
+
+__all__ = ["Body", "Case", "Criterion", "Geometry", "Medium", "Start", "Surface", "SurfaceKind"]
+
+FloatArray = NDArray[np.float64]
+
+# Gauss–Legendre nodes on [0, 1]: four nodes integrate polynomials up to degree 7 exactly,
+# enough for (linear profile)² × r² on one segment.
+_GL_X, _GL_W = np.polynomial.legendre.leggauss(4)
+_GL_X = 0.5 * (_GL_X + 1.0)
+_GL_W = 0.5 * _GL_W
+
+
+class Geometry(IntEnum):
+    """The body's shape, valued as the metric exponent m of the weight r**m."""
+
+    SLAB = 0
+    CYLINDER = 1
+    SPHERE = 2
+
+
+class SurfaceKind(str, Enum):
+    """What happens at every exposed surface."""
+
+    NO_FLUX = "no_flux"
+    FIXED_VALUE = "fixed_value"
+    CONVECTIVE = "convective"
+
+
+@dataclass(frozen=True)
+class Body:
+    """A homogeneous body. ``extent_m`` is the slab's full thickness or the radius.
+
+    The coordinate runs 0..extent_m: from the first face for a slab, from the centre
+    outward for a cylinder or sphere.
+    """
+
+    geometry: Geometry
+    extent_m: float
+
+    @property
+    def metric(self) -> int:
+        return int(self.geometry)
+
+    @property
+    def characteristic_length_m(self) -> float:
+        """Half-thickness of a slab (same condition on both faces) or the radius."""
+        return self.extent_m / 2 if self.geometry is Geometry.SLAB else self.extent_m
+
+    @property
+    def length_convention(self) -> str:
+        return "half_thickness" if self.geometry is Geometry.SLAB else "radius"
+
+    @property
+    def volume_to_area_m(self) -> float:
+        """V/A over the exposed surface: half-thickness, R/2 or R/3."""
+        return self.characteristic_length_m / (self.metric + 1)
+
+    def weight_integral(self, lower_m: float, upper_m: float) -> float:
+        """∫ r**m dr over [lower, upper]: the body's amount per unit weight there."""
+        power = self.metric + 1
+        return float((upper_m**power - lower_m**power) / power)
+
+
+@dataclass(frozen=True)
+class Medium:
+    diffusivity_m2_per_s: float
+
+
+@dataclass(frozen=True)
+class Start:
+    """A piecewise-linear start: segment k runs from ``x0[k]`` to ``x1[k]`` with values
+    ``v0[k]`` → ``v1[k]``. Segments tile 0..extent; a jump is two segments meeting with
+    different values."""
+
+    x0: FloatArray
+    x1: FloatArray
+    v0: FloatArray
+    v1: FloatArray
+
+    @classmethod
+    def uniform(cls, extent_m: float, value: float) -> Start:
+        return cls.from_pieces([(0.0, extent_m, value, value)])
+
+    @classmethod
+    def from_pieces(cls, pieces: list[tuple[float, float, float, float]]) -> Start:
+        kept = [piece for piece in pieces if piece[1] > piece[0]]
+        arrays = np.array(kept, dtype=float).T
+        return cls(arrays[0], arrays[1], arrays[2], arrays[3])
+
+    @property
+    def breakpoints_m(self) -> FloatArray:
+        """Interior points where the start jumps or bends; finite-volume faces go here."""
+        inner = self.x0[1:]
+        jumps = self.v0[1:] != self.v1[:-1]
+        slope = (self.v1 - self.v0) / (self.x1 - self.x0)
+        kinks = slope[1:] != slope[:-1]
+        return np.asarray(inner[jumps | kinks], dtype=float)
+
+    def values(self, positions_m: FloatArray) -> FloatArray:
+        """Values at positions; exactly at a jump, the mean of both sides."""
+        x = np.asarray(positions_m, dtype=float)
+        segment = np.clip(np.searchsorted(self.x0, x, side="right") - 1, 0, self.x0.size - 1)
+        fraction = (x - self.x0[segment]) / (self.x1 - self.x0)[segment]
+        value = self.v0[segment] + (self.v1 - self.v0)[segment] * fraction
+        at_joint = (segment > 0) & (x == self.x0[segment])
+        left_value = self.v1[np.maximum(segment - 1, 0)]
+        return np.asarray(np.where(at_joint, 0.5 * (value + left_value), value), dtype=float)
+
+    def moments(self, metric: int, lower_m: FloatArray, upper_m: FloatArray,
+                shift: float = 0.0, power: int = 1) -> FloatArray:
+        """Exact ∫ (c − shift)**power · r**metric dr over each [lower, upper], which must each
+        lie inside one segment (finite-volume faces include every breakpoint)."""
+        lower = np.asarray(lower_m, dtype=float)
+        upper = np.asarray(upper_m, dtype=float)
+        mid = 0.5 * (lower + upper)
+        segment = np.clip(np.searchsorted(self.x1, mid, side="left"), 0, self.x0.size - 1)
+        x = lower[:, None] + (upper - lower)[:, None] * _GL_X[None, :]
+        fraction = (x - self.x0[segment, None]) / (self.x1 - self.x0)[segment, None]
+        value = self.v0[segment, None] + (self.v1 - self.v0)[segment, None] * fraction
+        integrand = (value - shift) ** power * x**metric
+        return np.asarray((integrand @ _GL_W) * (upper - lower), dtype=float)
+
+    def body_moment(self, metric: int, shift: float = 0.0, power: int = 1) -> float:
+        """Exact ∫ (c − shift)**power r**metric dr over the whole body."""
+        return float(np.sum(self.moments(metric, self.x0, self.x1, shift, power)))
+
+    def max_abs_deviation(self, reference: float) -> float:
+        return float(np.max(np.abs(np.r_[self.v0, self.v1] - reference)))
+
+    def signs(self) -> set[int]:
+        return {int(s) for s in np.sign(np.r_[self.v0, self.v1]) if s != 0}
+
+
+@dataclass(frozen=True)
+class Surface:
+    """The condition on every exposed surface. ``value`` is the held value (fixed_value)
+    or the ambient value (convective); ``biot`` = k_f·Lc/D for convective surfaces."""
+
+    kind: SurfaceKind
+    value: float = 0.0
+    biot: float = 0.0
+
+
+@dataclass(frozen=True)
+class Criterion:
+    """When the body counts as settled. ``measure`` names a function in service.measures."""
+
+    measure: str
+    tolerance: float | None = None
+    fraction: float | None = None
+    position_m: float | None = None
+    absolute_tolerance: float | None = None
+
+
+@dataclass(frozen=True)
+class Case:
+    body: Body
+    medium: Medium
+    start: Start
+    surface: Surface
+    criterion: Criterion | None = None
+    accuracy: float = 1e-4
+    engine: str = "auto"
+    notes: tuple[str, ...] = field(default=())
+
+    @property
+    def body_weight(self) -> float:
+        return self.body.weight_integral(0.0, self.body.extent_m)
+
+    @property
+    def final_value(self) -> float:
+        """The uniform state the body tends to."""
+        if self.surface.kind is SurfaceKind.NO_FLUX:
+            return self.start.body_moment(self.body.metric) / self.body_weight
+        return self.surface.value
+
+    @property
+    def diffusion_time_s(self) -> float:
+        """Lc²/D: the time unit of the Fourier number."""
+        length = self.body.characteristic_length_m
+        return length * length / self.medium.diffusivity_m2_per_s
