@@ -1,0 +1,229 @@
+"""The series engine: exact eigenfunction expansions for a homogeneous body.
+
+Notes
+-----
+With u = c − c_final the deviation and ξ the dimensionless coordinate of
+:mod:`service.engines.spectra`, the solution of ∂u/∂t = D∇²u with one linear condition on
+every exposed surface is
+
+    u(ξ, t) = Σ_n b_n ψ_n(ξ) exp(−D ζ_n² t / Lc²),   ψ_n = φ_n / ⟨φ_n²⟩^½,
+
+with b_n = ⟨u0, ψ_n⟩ (Crank 1975, eqs. 4.17, 5.22, 6.18; Carslaw & Jaeger 1959, §3.10).
+The projections of the piecewise-linear start are exact closed forms per segment. The
+series is truncated after K modes per family; the part left out is bounded, at a time t,
+by A Σ_{j≥1} (1 + jδ/ζ_K) exp(−(ζ_K + jδ)² Fo), δ the least root spacing of the family and
+A the largest amplitude among the last computed modes (a generous allowance for growth).
+K is chosen so that this bound is below 1e-4·accuracy of the largest start deviation at
+the earliest time asked for.
+
+References
+----------
+J. Crank, *The Mathematics of Diffusion*, 2nd ed., Oxford (1975), chapters 4–6.
+"""
+
+from __future__ import annotations
+
+import math
+import threading
+from collections import OrderedDict
+from collections.abc import Callable
+
+import numpy as np
+from numpy.typing import NDArray
+
+from service.engines.common import Crossing, EngineRun, ModalSolution, TailBound
+from service.engines.spectra import FAMILIES, ModeFamily
+from service.errors import NumericalFailure
+from service.physics import Case, Geometry, SurfaceKind
+
+__all__ = ["SeriesEngine"]
+
+FloatArray = NDArray[np.float64]
+
+# Earliest Fourier number any search looks at; a criterion still met there is met at once.
+FOURIER_FLOOR = 1e-6
+# First guess of the earliest time needed, as a Fourier number; refined when the answer is earlier.
+_FIRST_FOURIER = 0.02
+# Truncation target relative to the largest start deviation, per unit of requested accuracy.
+_TRUNCATION_FRACTION = 1e-4
+# Fewest and most modes per family.
+_MIN_MODES = 8
+_MAX_MODES = 40_000
+# How much earlier the next solution reaches when a search ran into the validity floor.
+_REACH_FACTOR = 30.0
+# Relative tolerance the settling root-finder is run to (added to the error estimate).
+ROOT_RTOL = 1e-12
+# Points across the body where the largest deviation is sought.
+_SAMPLES = {Geometry.SLAB: 257, Geometry.CYLINDER: 129, Geometry.SPHERE: 129}
+# Eigenvalue caches kept per engine.
+_CACHE_SIZE = 256
+
+
+def _power_sums(ratio: float) -> tuple[float, float, float, float]:
+    """Σ_{j≥1} j^p r^j for p = 0..3 (closed forms of the polylogarithm at integer order)."""
+    r = ratio
+    one = 1.0 - r
+    return (r / one, r / one**2, r * (1 + r) / one**3, r * (1 + 4 * r + r * r) / one**4)
+
+
+def _tail_sum(zeta_last: float, spacing: float, fourier: float, growth: int) -> float:
+    """Bound on Σ_{j≥1} (1 + jδ/ζ_K)^growth exp(−(ζ_K + jδ)² Fo), growth 1 or 3."""
+    if fourier <= 0:
+        return math.inf
+    ratio = math.exp(-2.0 * zeta_last * spacing * fourier)
+    if ratio >= 1.0:
+        return math.inf
+    s0, s1, s2, s3 = _power_sums(ratio)
+    x = spacing / max(zeta_last, spacing)
+    polynomial = s0 + x * s1 if growth == 1 else s0 + 3 * x * s1 + 3 * x * x * s2 + x**3 * s3
+    return math.exp(-zeta_last * zeta_last * fourier) * polynomial
+
+
+class SeriesEngine:
+    """Exact eigen-expansions; eigenvalues cached by shape, surface kind and Biot number."""
+
+    name = "series"
+
+    def __init__(self) -> None:
+        self._lock = threading.Lock()
+        self._roots: OrderedDict[tuple[Geometry, SurfaceKind, float, int], FloatArray] = OrderedDict()
+
+    def check(self, case: Case) -> None:
+        """Every homogeneous body of this service has an exact expansion."""
+
+    def _family_roots(self, case: Case, index: int, family: ModeFamily, count: int) -> FloatArray:
+        surface = case.surface
+        biot = surface.biot if surface.kind is SurfaceKind.CONVECTIVE else 0.0
+        key = (case.body.geometry, surface.kind, biot, index)
+        with self._lock:
+            cached = self._roots.get(key)
+            if cached is not None and cached.size >= count:
+                self._roots.move_to_end(key)
+                return cached[:count]
+        computed = family.roots[surface.kind](max(count, 2 * (cached.size if cached is not None else 0)), biot)
+        with self._lock:
+            self._roots[key] = computed
+            while len(self._roots) > _CACHE_SIZE:
+                self._roots.popitem(last=False)
+        return computed[:count]
+
+    def solution(self, case: Case, earliest_time_s: float) -> ModalSolution:
+        """A truncated expansion whose left-out part is negligible for t ≥ earliest_time_s."""
+        diffusion_time = case.diffusion_time_s
+        fourier = max(earliest_time_s / diffusion_time, FOURIER_FLOOR)
+        target = _TRUNCATION_FRACTION * case.accuracy
+        zeta_needed = math.sqrt(math.log(100.0 / target) / fourier)
+        count = max(_MIN_MODES, math.ceil(zeta_needed / np.pi) + 2)
+        while True:
+            solution = self._build(case, count, fourier * diffusion_time)
+            scale = case.start.max_abs_deviation(case.final_value)
+            assert solution.tail is not None
+            if solution.tail(solution.valid_from_s).sup <= target * scale or count >= _MAX_MODES:
+                return solution
+            count = min(_MAX_MODES, 2 * count)
+
+    def _build(self, case: Case, count: int, valid_from_s: float) -> ModalSolution:
+        body = case.body
+        length = body.characteristic_length_m
+        diffusivity = case.medium.diffusivity_m2_per_s
+        final = case.final_value
+        start = case.start
+        to_xi = _coordinate(body.geometry, length)
+        xi0, xi1 = to_xi(start.x0), to_xi(start.x1)
+        slope = (start.v1 - start.v0) / (xi1 - xi0)
+        intercept = (start.v0 - final) - slope * xi0
+
+        zetas, amplitudes, means, norms, owners = [], [], [], [], []
+        tails: list[tuple[float, float, float, float]] = []
+        for index, family in enumerate(FAMILIES[body.geometry]):
+            zeta = self._family_roots(case, index, family, count)
+            m0, m1 = family.moments(zeta, xi0, xi1)
+            measure = family.body_measure
+            norm = family.norm(zeta)
+            root_norm = np.sqrt(norm)
+            projection = (intercept @ m0 + slope @ m1) / measure
+            amplitude = np.where(zeta > 0, projection / root_norm, 0.0)
+            whole0, _ = family.moments(zeta, np.array([family.lower]), np.array([1.0]))
+            zetas.append(zeta)
+            amplitudes.append(amplitude)
+            means.append(whole0[0] / measure / root_norm)
+            norms.append(root_norm)
+            owners.append(np.full(zeta.size, index))
+            last = slice(zeta.size // 2, None)
+            tails.append((
+                float(zeta[-1]),
+                family.spacing,
+                float(np.max(np.abs(amplitude[last]) / root_norm[last])),
+                float(np.max(np.abs(amplitude[last]))),
+            ))
+
+        zeta_all = np.concatenate(zetas)
+        order = np.argsort(zeta_all, kind="stable")
+        zeta_sorted = zeta_all[order]
+        root_norm_all = np.concatenate(norms)[order]
+        owner_all = np.concatenate(owners)[order]
+        families = FAMILIES[body.geometry]
+
+        def basis_at(positions_m: FloatArray) -> FloatArray:
+            xi = to_xi(np.asarray(positions_m, dtype=float))
+            out = np.empty((xi.size, zeta_sorted.size))
+            for index, family in enumerate(families):
+                chosen = owner_all == index
+                out[:, chosen] = family.values(zeta_sorted[chosen], xi)
+            return out / root_norm_all
+
+        def tail(time_s: float) -> TailBound:
+            fourier = time_s * diffusivity / length**2
+            sup = square = energy = 0.0
+            for zeta_last, spacing, sup_amplitude, amplitude in tails:
+                sup += sup_amplitude * _tail_sum(zeta_last, spacing, fourier, 1)
+                square += amplitude**2 * _tail_sum(zeta_last, spacing, 2 * fourier, 1)
+                energy += (amplitude * zeta_last / length) ** 2 * _tail_sum(
+                    zeta_last, spacing, 2 * fourier, 3)
+            return TailBound(sup=sup, square=square, energy=energy)
+
+        samples = np.linspace(0.0, body.extent_m, _SAMPLES[body.geometry])
+        return ModalSolution(
+            engine=self.name,
+            resolution=int(zeta_sorted.size),
+            diffusivity_m2_per_s=diffusivity,
+            rates_per_s=diffusivity * (zeta_sorted / length) ** 2,
+            amplitudes=np.concatenate(amplitudes)[order],
+            mode_means=np.concatenate(means)[order],
+            basis_at=basis_at,
+            sample_positions_m=samples,
+            sample_basis=basis_at(samples),
+            refine_max=True,
+            valid_from_s=valid_from_s,
+            tail=tail,
+        )
+
+    def settle(
+        self,
+        case: Case,
+        search: Callable[[ModalSolution, float], Crossing],
+        truncation_error: Callable[[ModalSolution, float], float],
+    ) -> EngineRun:
+        """Search on successively longer expansions until the crossing lies where the
+        truncation is negligible."""
+        floor_s = FOURIER_FLOOR * case.diffusion_time_s
+        earliest = max(floor_s, _FIRST_FOURIER * case.diffusion_time_s)
+        for _ in range(12):
+            solution = self.solution(case, earliest)
+            crossing = search(solution, max(floor_s, solution.valid_from_s))
+            if crossing.hit_floor and solution.valid_from_s > floor_s * (1 + 1e-9):
+                earliest = max(floor_s, solution.valid_from_s / _REACH_FACTOR)
+                continue
+            error = truncation_error(solution, crossing.time_s) + ROOT_RTOL
+            return EngineRun(solution=solution, crossing=crossing, estimated_relative_error=error)
+        raise NumericalFailure("the series did not reach the times this criterion needs")
+
+
+def _coordinate(geometry: Geometry, length_m: float) -> Callable[[FloatArray], FloatArray]:
+    """Map physical positions to the families' ξ: x/Lc − 1 on a slab, r/R on radial bodies."""
+    offset = 1.0 if geometry is Geometry.SLAB else 0.0
+
+    def to_xi(positions_m: FloatArray) -> FloatArray:
+        return np.asarray(positions_m, dtype=float) / length_m - offset
+
+    return to_xi
