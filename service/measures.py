@@ -1,0 +1,457 @@
+"""Measures of how far a body is from its final state, each a closed-form sum over modes.
+
+With u = c − c_final, w = r^m (m = 0, 1, 2) and ⟨·⟩ the w-weighted mean over the body,
+a solution u = Σ b_k ψ_k e^{−λ_k t} with orthonormal ψ_k gives:
+
+* mean-square deviation ⟨u²⟩ = Σ b_k² e^{−2λ_k t} (Parseval), reported over ⟨u0²⟩;
+* the mean ⟨u⟩ = Σ b_k ⟨ψ_k⟩ e^{−λ_k t}, hence the fraction equilibrated
+  F = 1 − ⟨u⟩/⟨u0⟩ and the relative standard deviation √(⟨u²⟩ − ⟨u⟩²)/|c_final + ⟨u⟩|;
+* the value at a point, Σ b_k ψ_k(x) e^{−λ_k t};
+* the largest |u| over the body, sought on samples and refined by a parabola;
+* the Dirichlet energy (below).
+
+Dirichlet energy. Define E(t) = ⟨|∂u/∂x|²⟩ + (A/V)(Bi/Lc)·mean_s(u_s²), the surface term
+present on convective surfaces (A/V = 1/Lc, 2/Lc, 3/Lc for slab, cylinder, sphere; the mean
+over the exposed surfaces). Green's identity with ∂u/∂n = −(Bi/Lc) u_s on a convective
+surface, u_s = 0 on a held one and ∂u/∂n = 0 on a sealed one gives E = −⟨u ∇²u⟩, so for
+eigenfunctions (∇²ψ_k = −κ_k² ψ_k) E = Σ κ_k² b_k² e^{−2λ_k t} with λ_k = Dκ_k². Then
+dE/dt = −2D Σ κ_k⁴ b_k² e^{−2λ_k t} = −(2/D)⟨u_t²⟩ ≤ 0: the energy never increases,
+and d⟨u²⟩/dt = −2D E. Without the surface term E would rise from zero on a uniform start.
+It is reported as E/(κ_1²⟨u0²⟩), κ_1 the body's slowest wavenumber: dimensionless, finite
+for t > 0 (E(0) = ∞ for a start with a jump), never below the mean-square ratio (κ_k ≥ κ_1)
+and equal to it when only the slowest mode is left.
+
+Which measures are monotone. ⟨u²⟩ and E are sums of decaying positive terms. max|u| never
+increases by the maximum principle for these surfaces (and its discrete counterpart for
+the finite-volume operator). The others can rise before they fall, and the settling time
+is the last crossing; each such measure supplies a time after which it is monotone or
+settled for good, computed from a bound (see ``settled_after_s``).
+"""
+
+from __future__ import annotations
+
+import math
+from abc import ABC, abstractmethod
+from dataclasses import dataclass
+from typing import ClassVar
+
+import numpy as np
+from numpy.typing import NDArray
+from scipy import optimize
+
+from service.engines.common import ModalSolution, TailBound
+from service.engines.spectra import slowest_wavenumber
+from service.errors import InvalidInput
+from service.physics import Case, Criterion, SurfaceKind
+
+__all__ = ["MEASURES", "Facts", "Measure", "build_measure", "defined_measures"]
+
+FloatArray = NDArray[np.float64]
+
+# A mode counts as excited (or seen by a measure) when its coefficient exceeds this
+# fraction of the largest.
+EXCITED_FRACTION = 1e-12
+# The fraction equilibrated is undefined when the amount changes by less than this
+# fraction of the amount scale.
+AMOUNT_FRACTION = 1e-9
+# A start closer than this (relative) to its final state has nothing to settle.
+SETTLED_FRACTION = 1e-12
+
+
+@dataclass(frozen=True)
+class Facts:
+    """Exact properties of the case that the measures normalise by."""
+
+    final_value: float
+    max_abs_start: float
+    mean_square_start: float
+    mean_start: float
+    slowest_wavenumber_per_m: float
+    diffusivity_m2_per_s: float
+    rsd_refusal: str | None
+    fraction_refusal: str | None
+
+    @classmethod
+    def of(cls, case: Case) -> Facts:
+        body = case.body
+        weight = case.body_weight
+        final = case.final_value
+        start = case.start
+        surface = case.surface
+        biot = surface.biot if surface.kind is SurfaceKind.CONVECTIVE else 0.0
+        zeta1 = slowest_wavenumber(body.geometry, surface.kind, biot)
+        max_abs = start.max_abs_deviation(final)
+        mean = start.body_moment(body.metric, shift=final) / weight
+        scale = max(abs(final), float(np.max(np.abs(np.r_[start.v0, start.v1]))))
+        if max_abs <= SETTLED_FRACTION * max(scale, np.finfo(float).tiny):
+            raise InvalidInput(
+                "the start already equals its final state, so there is nothing to settle",
+                "/initial",
+            )
+        return cls(
+            final_value=final,
+            max_abs_start=max_abs,
+            mean_square_start=start.body_moment(body.metric, shift=final, power=2) / weight,
+            mean_start=mean,
+            slowest_wavenumber_per_m=zeta1 / body.characteristic_length_m,
+            diffusivity_m2_per_s=case.medium.diffusivity_m2_per_s,
+            rsd_refusal=_rsd_refusal(case, final),
+            fraction_refusal=_fraction_refusal(case, mean, scale),
+        )
+
+
+def _rsd_refusal(case: Case, final: float) -> str | None:
+    if final == 0.0:
+        return ("rsd needs a non-zero final value: the relative standard deviation divides by "
+                "the mean, which tends to zero here")
+    values = set(case.start.signs())
+    if case.surface.kind is not SurfaceKind.NO_FLUX and case.surface.value != 0.0:
+        values.add(int(np.sign(case.surface.value)))
+    if len(values) > 1:
+        return ("rsd needs every start and surface value to have one sign (the mean could pass "
+                "through zero and the RSD depends on where zero is); use mean_square_deviation "
+                "or max_deviation")
+    return None
+
+
+def _fraction_refusal(case: Case, mean: float, scale: float) -> str | None:
+    if case.surface.kind is SurfaceKind.NO_FLUX:
+        return ("fraction_equilibrated needs an amount that changes: with no_flux surfaces the "
+                "amount is conserved; use mean_square_deviation, max_deviation or rsd")
+    if abs(mean) <= AMOUNT_FRACTION * scale:
+        return ("fraction_equilibrated needs an amount that changes: here the body's start holds "
+                "the same amount as its final state")
+    return None
+
+
+class Measure(ABC):
+    """One normalised measure on one solution; the criterion holds when value ≤ level."""
+
+    name: ClassVar[str]
+    is_monotone: ClassVar[bool]
+
+    def __init__(self, facts: Facts, solution: ModalSolution, level: float) -> None:
+        self.facts = facts
+        self.solution = solution
+        self.level = level
+
+    @abstractmethod
+    def values(self, times_s: FloatArray) -> FloatArray:
+        """The compared quantity at each time."""
+
+    def value(self, time_s: float) -> float:
+        return float(self.values(np.array([time_s]))[0])
+
+    def reported(self, time_s: float) -> float:
+        """The quantity the response reports (the compared one unless a measure says)."""
+        return self.value(time_s)
+
+    @abstractmethod
+    def initial_value(self) -> float:
+        """The compared quantity for the exact start."""
+
+    @abstractmethod
+    def truncation(self, tail: TailBound) -> float:
+        """Bound on the error of the compared quantity from the modes a solution leaves out."""
+
+    def settled_after_s(self, floor_s: float) -> float:
+        """A time after which the measure never increases or the criterion holds for good."""
+        return floor_s
+
+    def guess_s(self) -> float:
+        """A first guess of the crossing from the slowest excited mode."""
+        rate = _slowest_excited_rate(self.solution)
+        return max(math.log(max(1.0 / self.level, 1.0 + 1e-9)) / rate, 1e-300)
+
+
+def _slowest_excited_rate(solution: ModalSolution) -> float:
+    amplitudes = np.abs(solution.amplitudes)
+    excited = amplitudes > EXCITED_FRACTION * float(np.max(amplitudes))
+    return float(solution.rates_per_s[np.argmax(excited)])
+
+
+def slowest_excited_rate(solution: ModalSolution) -> float:
+    """Rate of the slowest mode the start excites, 1/s."""
+    return _slowest_excited_rate(solution)
+
+
+class _SquareSum(Measure):
+    """Measures of the form Σ weight_k b_k² e^{−2λ_k t} / normaliser."""
+
+    is_monotone = True
+
+    def _weights(self) -> FloatArray:
+        return np.ones_like(self.solution.rates_per_s)
+
+    def _normaliser(self) -> float:
+        return self.facts.mean_square_start
+
+    def values(self, times_s: FloatArray) -> FloatArray:
+        solution = self.solution
+        decay = np.exp(-2.0 * np.outer(times_s, solution.rates_per_s))
+        return np.asarray(decay @ (self._weights() * solution.amplitudes**2)) / self._normaliser()
+
+
+class MeanSquareDeviation(_SquareSum):
+    """⟨u²⟩(t)/⟨u0²⟩; with no-flux surfaces, the variance ratio (intensity of segregation)."""
+
+    name = "mean_square_deviation"
+
+    def initial_value(self) -> float:
+        return 1.0
+
+    def truncation(self, tail: TailBound) -> float:
+        return tail.square / self.facts.mean_square_start
+
+
+class DirichletEnergy(_SquareSum):
+    """E(t)/(κ_1²⟨u0²⟩), the gradient energy with its convective surface term (module notes)."""
+
+    name = "dirichlet_energy"
+
+    def _weights(self) -> FloatArray:
+        return self.solution.rates_per_s / self.solution.diffusivity_m2_per_s
+
+    def _normaliser(self) -> float:
+        return self.facts.slowest_wavenumber_per_m**2 * self.facts.mean_square_start
+
+    def initial_value(self) -> float:
+        return math.inf
+
+    def truncation(self, tail: TailBound) -> float:
+        return tail.energy / self._normaliser()
+
+    def guess_s(self) -> float:
+        return super().guess_s() / 2
+
+
+class MaxDeviation(Measure):
+    """max|u(t)|/max|u0|, never increasing (maximum principle)."""
+
+    name = "max_deviation"
+    is_monotone = True
+
+    def values(self, times_s: FloatArray) -> FloatArray:
+        solution = self.solution
+        samples = solution.weighted(times_s) @ solution.sample_basis.T
+        magnitude = np.abs(samples)
+        best = np.argmax(magnitude, axis=1)
+        peak = magnitude[np.arange(best.size), best]
+        if solution.refine_max:
+            peak = np.maximum(peak, _parabola_peak(solution.sample_positions_m, magnitude, best))
+        return np.asarray(peak / self.facts.max_abs_start)
+
+    def initial_value(self) -> float:
+        return 1.0
+
+    def truncation(self, tail: TailBound) -> float:
+        return tail.sup / self.facts.max_abs_start
+
+
+def _parabola_peak(positions: FloatArray, magnitude: FloatArray, best: NDArray[np.intp]) -> FloatArray:
+    """Vertex of the parabola through the largest sample and its neighbours (interior only)."""
+    rows = np.arange(best.size)
+    interior = (best > 0) & (best < positions.size - 1)
+    i = np.clip(best, 1, positions.size - 2)
+    x0, x1, x2 = positions[i - 1], positions[i], positions[i + 1]
+    y0, y1, y2 = magnitude[rows, i - 1], magnitude[rows, i], magnitude[rows, i + 1]
+    d1 = (y1 - y0) / (x1 - x0)
+    d2 = (y2 - y1) / (x2 - x1)
+    curvature = (d2 - d1) / (x2 - x0)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        slope_mid = d1 - curvature * (x1 - x0)
+        vertex_offset = np.where(curvature < 0, -slope_mid / (2 * curvature), 0.0)
+        vertex_offset = np.clip(vertex_offset, 0.0, x2 - x0)
+        vertex = y0 + slope_mid * vertex_offset + curvature * vertex_offset**2
+    return np.where(interior & (curvature < 0), np.maximum(vertex, y1), y1)
+
+
+class _SignedSum(Measure):
+    """|Σ c_k e^{−λ_k t}| / scale, for a point value or the body's mean."""
+
+    is_monotone = False
+
+    @abstractmethod
+    def _coefficients(self) -> FloatArray: ...
+
+    @abstractmethod
+    def _scale(self) -> float: ...
+
+    def signed(self, times_s: FloatArray) -> FloatArray:
+        decay = self.solution.decay(times_s)
+        return np.asarray(decay @ self._coefficients())
+
+    def values(self, times_s: FloatArray) -> FloatArray:
+        return np.abs(self.signed(times_s)) / self._scale()
+
+    def truncation(self, tail: TailBound) -> float:
+        return tail.sup / self._scale()
+
+    def settled_after_s(self, floor_s: float) -> float:
+        """Earliest t at which the slowest seen mode's term outweighs all others and their
+        derivatives: Σ_{k>1} λ_k|c_k| e^{−(λ_k−λ_1)t} < λ_1|c_1|. From then on the sum keeps the
+        sign of c_1 and its magnitude falls, so the measure is monotone."""
+        coefficients = self._coefficients()
+        rates = self.solution.rates_per_s
+        size = np.abs(coefficients)
+        if float(np.max(size)) == 0.0:
+            return floor_s
+        seen = np.flatnonzero(size > EXCITED_FRACTION * float(np.max(size)))
+        lead = int(seen[0])
+        rest = seen[1:]
+        target = rates[lead] * size[lead]
+        if rest.size == 0 or target == 0.0:
+            return floor_s
+        gaps = rates[rest] - rates[lead]
+        weights = rates[rest] * size[rest]
+
+        def excess(log_t: float) -> float:
+            return float(np.log(np.sum(weights * np.exp(-gaps * math.exp(log_t))))) - math.log(target)
+
+        low = math.log(floor_s)
+        if excess(low) < 0:
+            return floor_s
+        high = low
+        while excess(high) >= 0:
+            high += math.log(4.0)
+            if high - low > 200:
+                return math.exp(high)
+        return math.exp(optimize.brentq(excess, low, high, xtol=1e-6))
+
+
+class ValueAt(_SignedSum):
+    """|u(x, t)| over max|u0| (relative tolerance) or in value units (absolute tolerance)."""
+
+    name = "value_at"
+
+    def __init__(self, facts: Facts, solution: ModalSolution, level: float,
+                 position_m: float, is_absolute: bool, start_deviation: float) -> None:
+        super().__init__(facts, solution, level)
+        self.position_m = position_m
+        self.is_absolute = is_absolute
+        self._start_deviation = start_deviation
+        basis = solution.basis_at(np.array([position_m]))[0]
+        self._c = solution.amplitudes * basis
+
+    def _coefficients(self) -> FloatArray:
+        return self._c
+
+    def _scale(self) -> float:
+        return 1.0 if self.is_absolute else self.facts.max_abs_start
+
+    def initial_value(self) -> float:
+        return self._start_deviation / self._scale()
+
+    def truncation(self, tail: TailBound) -> float:
+        return tail.sup / self._scale()
+
+
+class FractionEquilibrated(_SignedSum):
+    """|1 − F| with F = (M(t) − M(0))/(M_final − M(0)) = 1 − ⟨u⟩/⟨u0⟩; reports F itself."""
+
+    name = "fraction_equilibrated"
+
+    def _coefficients(self) -> FloatArray:
+        return self.solution.amplitudes * self.solution.mode_means
+
+    def _scale(self) -> float:
+        return abs(self.facts.mean_start)
+
+    def initial_value(self) -> float:
+        return 1.0
+
+    def reported(self, time_s: float) -> float:
+        return 1.0 - float(self.signed(np.array([time_s]))[0]) / self.facts.mean_start
+
+
+class RelativeStandardDeviation(Measure):
+    """√(⟨u²⟩ − ⟨u⟩²)/|c_final + ⟨u⟩|, an absolute level as blend-uniformity limits are written."""
+
+    name = "rsd"
+    is_monotone = False
+
+    def values(self, times_s: FloatArray) -> FloatArray:
+        solution = self.solution
+        decay = solution.decay(times_s)
+        mean = decay @ (solution.amplitudes * solution.mode_means)
+        square = (decay * decay) @ (solution.amplitudes**2)
+        variance = np.maximum(square - mean * mean, 0.0)
+        with np.errstate(divide="ignore"):
+            return np.asarray(np.sqrt(variance) / np.abs(self.facts.final_value + mean))
+
+    def initial_value(self) -> float:
+        facts = self.facts
+        variance = max(facts.mean_square_start - facts.mean_start**2, 0.0)
+        denominator = abs(facts.final_value + facts.mean_start)
+        return math.sqrt(variance) / denominator if denominator > 0 else math.inf
+
+    def truncation(self, tail: TailBound) -> float:
+        spread = math.sqrt(tail.square + 2 * tail.sup * math.sqrt(self.facts.mean_square_start)
+                           + tail.sup**2)
+        return spread / abs(self.facts.final_value)
+
+    def settled_after_s(self, floor_s: float) -> float:
+        """RSD ≤ √⟨u²⟩/(|c_f| − √⟨u²⟩), which falls with t; it reaches the level once
+        √⟨u²⟩ = τ|c_f|/(1 + τ). After that time the criterion holds for good."""
+        target = (self.level * abs(self.facts.final_value) / (1 + self.level)) ** 2
+        solution = self.solution
+
+        def excess(time_s: float) -> float:
+            return float(np.exp(-2.0 * time_s * solution.rates_per_s) @ solution.amplitudes**2) - target
+
+        if excess(floor_s) <= 0:
+            return floor_s
+        high = max(floor_s, self.guess_s())
+        while excess(high) > 0:
+            high *= 2.0
+        return float(optimize.brentq(excess, floor_s, high, rtol=1e-10))
+
+
+MEASURES: dict[str, type[Measure]] = {
+    cls.name: cls
+    for cls in (MeanSquareDeviation, MaxDeviation, RelativeStandardDeviation, DirichletEnergy,
+                FractionEquilibrated, ValueAt)
+}
+
+
+def build_measure(case: Case, facts: Facts, solution: ModalSolution, criterion: Criterion) -> Measure:
+    """The measure a criterion names, on one solution, with its level."""
+    name = criterion.measure
+    if name == "rsd" and facts.rsd_refusal:
+        raise InvalidInput(facts.rsd_refusal, "/criterion/measure")
+    if name == "fraction_equilibrated":
+        if facts.fraction_refusal:
+            raise InvalidInput(facts.fraction_refusal, "/criterion/measure")
+        assert criterion.fraction is not None
+        return FractionEquilibrated(facts, solution, 1.0 - criterion.fraction)
+    if name == "value_at":
+        assert criterion.position_m is not None
+        is_absolute = criterion.absolute_tolerance is not None
+        level = criterion.absolute_tolerance if is_absolute else criterion.tolerance
+        assert level is not None
+        start_value = float(case.start.values(np.array([criterion.position_m]))[0])
+        return ValueAt(facts, solution, level, criterion.position_m, is_absolute,
+                       abs(start_value - facts.final_value))
+    assert criterion.tolerance is not None
+    return MEASURES[name](facts, solution, criterion.tolerance)
+
+
+def defined_measures(case: Case, facts: Facts, solution: ModalSolution,
+                     criterion: Criterion | None) -> dict[str, Measure]:
+    """Every measure defined for the case (value_at only when the criterion names a point),
+    each at the level its own criterion would use (1 where the criterion is another)."""
+    out: dict[str, Measure] = {}
+    for name, cls in MEASURES.items():
+        if name == "rsd" and facts.rsd_refusal:
+            continue
+        if name == "fraction_equilibrated" and facts.fraction_refusal:
+            continue
+        if name == "value_at":
+            if criterion is not None and criterion.measure == "value_at":
+                out[name] = build_measure(case, facts, solution, criterion)
+            continue
+        if name == "fraction_equilibrated":
+            out[name] = FractionEquilibrated(facts, solution, 1.0)
+            continue
+        out[name] = cls(facts, solution, 1.0)
+    return out

@@ -1,0 +1,143 @@
+"""The settling-time search on one solution: t* = inf{t : the criterion holds for all s ≥ t}.
+
+For a measure that never increases the answer is its only crossing: bracket, then Brent's
+method. Otherwise the measure supplies T*, a time after which it never increases or holds
+for good (:meth:`service.measures.Measure.settled_after_s`). If the criterion fails at T*,
+the answer lies beyond it and is again a single crossing. If it holds at T*, the search
+walks down from T* in steps of 10^(1/32) in time until the first sample where it fails,
+and root-finds between that sample and the one above: that is the last crossing. Local
+maxima of the measure between the answer and T* that come within 5 % of the level are
+refined; one that breaks through moves the answer later, one that nearly touches is
+reported as ``near_tangent`` (the time then jumps with small changes of the inputs).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+from scipy import optimize
+
+from service.engines.common import Crossing
+from service.errors import NumericalFailure
+from service.measures import Measure
+
+__all__ = ["find_settling_time"]
+
+# Scan density for last-crossing searches, samples per decade of time.
+_SAMPLES_PER_DECADE = 32
+# Samples evaluated per vectorised call while scanning down.
+_CHUNK = 32
+# A local maximum within this fraction of the level is refined and, if it stays below, flagged.
+_TANGENT_FRACTION = 0.05
+# Relative tolerance of every root-find (the engines add it to their error estimates).
+ROOT_RTOL = 1e-12
+# Bracket expansion: factor per step and the most steps before giving up.
+_EXPAND = 2.0
+_MAX_EXPANSIONS = 2000
+
+
+def find_settling_time(measure: Measure, floor_s: float) -> Crossing:
+    """Settling time of ``measure`` on its solution, searching no earlier than ``floor_s``."""
+    if measure.is_monotone:
+        return _monotone(measure, floor_s)
+    return _last_crossing(measure, floor_s)
+
+
+def _excess(measure: Measure, time_s: float) -> float:
+    return measure.value(time_s) - measure.level
+
+
+def _root(measure: Measure, lower_s: float, upper_s: float) -> float:
+    try:
+        return float(optimize.brentq(lambda t: _excess(measure, t), lower_s, upper_s,
+                                     xtol=ROOT_RTOL * lower_s, rtol=ROOT_RTOL))
+    except (ValueError, RuntimeError) as exc:
+        raise NumericalFailure(f"the settling root-find failed: {exc}") from exc
+
+
+def _beyond(measure: Measure, start_s: float) -> float:
+    """The crossing after ``start_s``, where the measure is known to be monotone and fails."""
+    lower = start_s
+    upper = max(measure.guess_s(), start_s * _EXPAND)
+    for _ in range(_MAX_EXPANSIONS):
+        if _excess(measure, upper) <= 0:
+            return _root(measure, lower, upper)
+        lower, upper = upper, upper * _EXPAND
+        if not math.isfinite(upper):
+            break
+    raise NumericalFailure("the criterion is never met: the measure does not fall to the level")
+
+
+def _monotone(measure: Measure, floor_s: float) -> Crossing:
+    if _excess(measure, floor_s) <= 0:
+        return Crossing(time_s=floor_s, definition="monotone", hit_floor=True)
+    guess = max(measure.guess_s(), floor_s)
+    lower = floor_s
+    if _excess(measure, guess) > 0:
+        return Crossing(_beyond(measure, guess), "monotone", hit_floor=False)
+    upper = guess
+    # tighten the lower end toward the guess so Brent's method starts from a narrow bracket
+    probe = guess / _EXPAND
+    while probe > floor_s and _excess(measure, probe) <= 0:
+        upper, probe = probe, probe / _EXPAND
+    lower = max(floor_s, probe)
+    if _excess(measure, lower) <= 0:
+        return Crossing(time_s=floor_s, definition="monotone", hit_floor=True)
+    return Crossing(_root(measure, lower, upper), "monotone", hit_floor=False)
+
+
+def _last_crossing(measure: Measure, floor_s: float) -> Crossing:
+    settled_after = max(measure.settled_after_s(floor_s), floor_s)
+    if _excess(measure, settled_after) > 0:
+        return Crossing(_beyond(measure, settled_after), "last_crossing", hit_floor=False)
+
+    step = 10.0 ** (1.0 / _SAMPLES_PER_DECADE)
+    upper_times = [settled_after]
+    upper_values = [measure.value(settled_after)]
+    current = settled_after
+    while current > floor_s:
+        times = current / step ** np.arange(1, _CHUNK + 1)
+        if times[-1] <= floor_s:
+            times = np.r_[times[times > floor_s], floor_s]
+        values = measure.values(times)
+        failing = np.flatnonzero(values > measure.level)
+        if failing.size:
+            first = int(failing[0])
+            upper = times[first - 1] if first > 0 else current
+            upper_times.extend(times[:first].tolist())
+            upper_values.extend(values[:first].tolist())
+            answer = _root(measure, float(times[first]), float(upper))
+            return _check_tangents(measure, answer, upper_times, upper_values)
+        upper_times.extend(times.tolist())
+        upper_values.extend(values.tolist())
+        current = float(times[-1])
+    return Crossing(time_s=floor_s, definition="last_crossing", hit_floor=True,
+                    holds_throughout=True)
+
+
+def _check_tangents(measure: Measure, answer_s: float, times: list[float],
+                    values: list[float]) -> Crossing:
+    """Refine local maxima of the scanned samples that approach the level."""
+    t = np.asarray(times)
+    v = np.asarray(values)
+    order = np.argsort(t)
+    t, v = t[order], v[order]
+    near = False
+    for i in range(1, t.size - 1):
+        if not (v[i] >= v[i - 1] and v[i] >= v[i + 1]):
+            continue
+        if v[i] < (1 - _TANGENT_FRACTION) * measure.level:
+            continue
+        found = optimize.minimize_scalar(
+            lambda log_t: -measure.value(math.exp(log_t)),
+            bounds=(math.log(t[i - 1]), math.log(t[i + 1])), method="bounded",
+            options={"xatol": 1e-10},
+        )
+        peak_time = math.exp(float(found.x))
+        if -float(found.fun) > measure.level:
+            later = _root(measure, peak_time, float(t[i + 1]))
+            answer_s = max(answer_s, later)
+        else:
+            near = True
+    return Crossing(time_s=answer_s, definition="last_crossing", hit_floor=False, near_tangent=near)

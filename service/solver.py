@@ -1,0 +1,243 @@
+"""From a case to an answer: choose the engine, search, then measure at the answer.
+
+This is the only module that knows engines, measures and the settling search together;
+the API turns its plain results into responses.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+from numpy.typing import NDArray
+
+from service.engines import Engine, ModalSolution, make_engines
+from service.engines.series import FOURIER_FLOOR
+from service.errors import InvalidInput, NotApplicable
+from service.measures import Facts, build_measure, defined_measures, slowest_excited_rate
+from service.physics import Case, Geometry, SurfaceKind
+from service.settling import find_settling_time
+
+__all__ = ["WARNING_CODES", "HistoryAnswer", "SettlingAnswer", "Snapshot", "Solver", "format_time"]
+
+FloatArray = NDArray[np.float64]
+
+# The classical lumped-capacity rule: Bi on V/A below this and one number will do.
+LUMPED_BIOT = 0.1
+# Positions across the body in each history snapshot.
+SNAPSHOT_POINTS = 101
+
+WARNING_CODES: dict[str, str] = {
+    "lumped_would_do": "the classical Biot number on V/A is below 0.1: a lumped (uniform-body) "
+    "model would give nearly the same time",
+    "near_tangent": "a local maximum of the measure nearly touches the tolerance after the "
+    "answer: a small change of the inputs can move the time a lot",
+    "settles_immediately": "the start already meets the criterion and keeps meeting it",
+    "settles_before_resolved_time": "the criterion is met before Fo = 1e-6, the earliest time "
+    "searched; the time given is that upper bound",
+    "resolution_capped": "the finite-volume grid reached its cell cap before its estimated error "
+    "fell to the accuracy asked",
+}
+
+_ASSUMPTIONS = (
+    "Transport by diffusion or conduction only, in a homogeneous body with constant properties.",
+    "No flow, stirring or convection inside the body; any of these would make the real time "
+    "shorter.",
+    "The same condition acts on every exposed surface, and the surroundings do not change.",
+)
+_RADIAL_SEALED = (
+    "For a sealed cylinder or sphere the answer is for a radially symmetric start; a start that "
+    "varies around or along the body can decay more slowly than this radial answer."
+)
+_CAUTIONS = (
+    "This is a planning estimate, not a validated process. Where safety or quality depends on the "
+    "time (food safety, heat treatment of structural parts, drug release, diagnostics), verify it "
+    "by measurement on the real part or product.",
+    "Local codes, product specifications and licensed professional practice govern over this "
+    "estimate.",
+)
+
+
+@dataclass(frozen=True)
+class SettlingAnswer:
+    time_s: float
+    definition: str
+    fourier_number: float
+    final_value: float
+    slowest_rate_per_s: float
+    slowest_excited_rate_per_s: float
+    measures: dict[str, float | None]
+    engine: str
+    resolution: int
+    estimated_relative_error: float
+    biot: float | None
+    warnings: list[tuple[str, str]] = field(default_factory=list)
+    assumptions: list[str] = field(default_factory=list)
+    cautions: list[str] = field(default_factory=list)
+
+
+@dataclass(frozen=True)
+class Snapshot:
+    time_s: float
+    positions_m: list[float]
+    values: list[float]
+
+
+@dataclass(frozen=True)
+class HistoryAnswer:
+    times_s: list[float]
+    measures: dict[str, list[float | None]]
+    snapshots: list[Snapshot]
+    final_value: float
+    engine: str
+    resolution: int
+
+
+def format_time(time_s: float) -> str:
+    """Three significant figures in s, min, h or d."""
+    for unit, seconds, limit in (("s", 1.0, 120.0), ("min", 60.0, 7200.0), ("h", 3600.0, 172800.0)):
+        if time_s < limit:
+            return f"{_three_figures(time_s / seconds)} {unit}"
+    return f"{_three_figures(time_s / 86400.0)} d"
+
+
+def _three_figures(value: float) -> str:
+    if value == 0:
+        return "0"
+    if 1e-3 <= abs(value) < 1e6:
+        digits = max(0, 2 - math.floor(math.log10(abs(value))))
+        return f"{value:.{digits}f}"
+    return f"{value:.2e}"
+
+
+def _finite(value: float) -> float | None:
+    return value if math.isfinite(value) else None
+
+
+class Solver:
+    """Holds the engines (and so their caches) for the life of the application."""
+
+    def __init__(self) -> None:
+        self.engines: dict[str, Engine] = make_engines()
+
+    def _engine(self, case: Case) -> Engine:
+        name = "series" if case.engine == "auto" else case.engine
+        engine = self.engines.get(name)
+        if engine is None:
+            raise NotApplicable(f"unknown engine {case.engine!r}", "/engine")
+        try:
+            engine.check(case)
+        except NotApplicable as exc:
+            raise exc.at("/engine") if not exc.pointer else exc
+        return engine
+
+    def settle(self, case: Case) -> SettlingAnswer:
+        """The settling time of ``case`` under its criterion, with every measure at that time."""
+        criterion = case.criterion
+        if criterion is None:
+            raise InvalidInput("a settling time needs a criterion", "/criterion")
+        facts = Facts.of(case)
+        engine = self._engine(case)
+
+        def search(solution: ModalSolution, floor_s: float):  # type: ignore[no-untyped-def]
+            return find_settling_time(build_measure(case, facts, solution, criterion), floor_s)
+
+        def truncation_error(solution: ModalSolution, time_s: float) -> float:
+            if solution.tail is None or time_s <= 0:
+                return 0.0
+            measure = build_measure(case, facts, solution, criterion)
+            error = measure.truncation(solution.tail(time_s))
+            step = 1e-6 * time_s
+            slope = abs(measure.value(time_s + step) - measure.value(time_s - step)) / (2 * step)
+            return error / (slope * time_s) if slope > 0 else error
+
+        run = engine.settle(case, search, truncation_error)
+        crossing = run.crossing
+        measure = build_measure(case, facts, run.solution, criterion)
+        warnings = list(run.warnings)
+        time_s = crossing.time_s
+        if crossing.hit_floor:
+            if crossing.holds_throughout and measure.initial_value() <= measure.level:
+                time_s = 0.0
+                warnings.append(("settles_immediately", WARNING_CODES["settles_immediately"]))
+            else:
+                warnings.append(("settles_before_resolved_time",
+                                 WARNING_CODES["settles_before_resolved_time"]))
+        if crossing.near_tangent:
+            warnings.append(("near_tangent", WARNING_CODES["near_tangent"]))
+        biot = case.surface.biot if case.surface.kind is SurfaceKind.CONVECTIVE else None
+        if biot is not None:
+            classical = biot * case.body.volume_to_area_m / case.body.characteristic_length_m
+            if classical < LUMPED_BIOT:
+                warnings.append(("lumped_would_do",
+                                 f"the classical Biot number on V/A is {classical:.3g}, below "
+                                 f"{LUMPED_BIOT}: a lumped (uniform-body) model would give "
+                                 f"nearly the same time"))
+
+        measured = defined_measures(case, facts, run.solution, criterion)
+        values: dict[str, float | None] = {}
+        for name, each in measured.items():
+            values[name] = _finite(each.reported(time_s) if time_s > 0 else each.initial_value())
+        excited = slowest_excited_rate(run.solution)
+        assumptions = list(_ASSUMPTIONS)
+        if case.surface.kind is SurfaceKind.NO_FLUX and case.body.geometry is not Geometry.SLAB:
+            assumptions.append(_RADIAL_SEALED)
+        assumptions.append(f"The final state is uniform at {facts.final_value:.6g}.")
+        return SettlingAnswer(
+            time_s=time_s,
+            definition=crossing.definition,
+            fourier_number=time_s / case.diffusion_time_s,
+            final_value=facts.final_value,
+            slowest_rate_per_s=facts.diffusivity_m2_per_s * facts.slowest_wavenumber_per_m**2,
+            slowest_excited_rate_per_s=excited,
+            measures=values,
+            engine=run.solution.engine,
+            resolution=run.solution.resolution,
+            estimated_relative_error=run.estimated_relative_error,
+            biot=biot,
+            warnings=warnings,
+            assumptions=assumptions,
+            cautions=list(_CAUTIONS),
+        )
+
+    def history(self, case: Case, times_s: list[float] | None, time_count: int | None,
+                snapshot_count: int) -> HistoryAnswer:
+        """Every defined measure at the given times (or log-spread around the settling time)."""
+        if times_s is None:
+            assert time_count is not None
+            settled = self.settle(case).time_s
+            if settled <= 0:
+                raise InvalidInput("the criterion is met at once, so there is no span to spread "
+                                   "times over; give 'times' instead", "/time_count")
+            times = np.geomspace(1e-3 * settled, 2.0 * settled, time_count)
+        else:
+            times = np.asarray(times_s, dtype=float)
+        facts = Facts.of(case)
+        engine = self._engine(case)
+        solution = engine.solution(case, float(np.min(times)))
+        measured = defined_measures(case, facts, solution, case.criterion)
+        series: dict[str, list[float | None]] = {}
+        for name, each in measured.items():
+            reported = [each.reported(float(t)) for t in times] if name == "fraction_equilibrated" \
+                else each.values(times).tolist()
+            series[name] = [_finite(float(v)) for v in reported]
+        positions = np.linspace(0.0, case.body.extent_m, SNAPSHOT_POINTS)
+        chosen = np.unique(np.linspace(0, times.size - 1, min(snapshot_count, times.size)).round()
+                           .astype(int)) if snapshot_count > 0 else np.array([], dtype=int)
+        profiles = solution.values_at(positions, times[chosen]) + facts.final_value
+        snapshots = [
+            Snapshot(float(times[i]), positions.tolist(), profile.tolist())
+            for i, profile in zip(chosen, profiles, strict=True)
+        ]
+        return HistoryAnswer(
+            times_s=times.tolist(),
+            measures=series,
+            snapshots=snapshots,
+            final_value=facts.final_value,
+            engine=solution.engine,
+            resolution=solution.resolution,
+        )
+
+
+_ = FOURIER_FLOOR
