@@ -19,7 +19,7 @@ from service.measures import Facts, build_measure, defined_measures, slowest_exc
 from service.physics import Case, Geometry, SurfaceKind
 from service.settling import find_settling_time
 
-__all__ = ["WARNING_CODES", "HistoryAnswer", "SettlingAnswer", "Snapshot", "Solver", "format_time"]
+__all__ = ["CAUTIONS", "WARNING_CODES", "HistoryAnswer", "SettlingAnswer", "Snapshot", "Solver", "format_time"]
 
 FloatArray = NDArray[np.float64]
 
@@ -50,7 +50,7 @@ _RADIAL_SEALED = (
     "For a sealed cylinder or sphere the answer is for a radially symmetric start; a start that "
     "varies around or along the body can decay more slowly than this radial answer."
 )
-_CAUTIONS = (
+CAUTIONS = (
     "This is a planning estimate, not a validated process. Where safety or quality depends on the "
     "time (food safety, heat treatment of structural parts, drug release, diagnostics), verify it "
     "by measurement on the real part or product.",
@@ -198,7 +198,7 @@ class Solver:
             biot=biot,
             warnings=warnings,
             assumptions=assumptions,
-            cautions=list(_CAUTIONS),
+            cautions=list(CAUTIONS),
         )
 
     def history(self, case: Case, times_s: list[float] | None, time_count: int | None,

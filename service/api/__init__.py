@@ -1,0 +1,1 @@
+"""HTTP routers, one module per topic, and the request → case translation."""

@@ -1,0 +1,105 @@
+"""RFC 9457 problem details for every error the service returns.
+
+Pydantic locations become JSON Pointers (RFC 6901) into the request body: FastAPI's leading
+"body" segment is dropped, and so are the tags Pydantic inserts for discriminated unions
+(found by walking the submitted JSON: a segment that is not a key or index there is a tag).
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from fastapi import FastAPI, Request
+from fastapi.exceptions import RequestValidationError
+from fastapi.responses import JSONResponse
+from starlette.exceptions import HTTPException
+
+from service.errors import MixclockError
+from service.models import Problem, ProblemItem
+
+__all__ = ["PROBLEM_RESPONSES", "install_problem_handlers", "pointer_for"]
+
+MEDIA_TYPE = "application/problem+json"
+_TYPE_BASE = "https://mixclock.invalid/problems/"
+
+PROBLEM_RESPONSES: dict[int | str, dict[str, Any]] = {
+    400: {"model": Problem, "description": "Malformed JSON.", "content": {MEDIA_TYPE: {}}},
+    422: {"model": Problem, "description": "Invalid content; `errors` names each field by JSON "
+          "Pointer.", "content": {MEDIA_TYPE: {}}},
+}
+
+
+def _escape(segment: str) -> str:
+    return segment.replace("~", "~0").replace("/", "~1")
+
+
+def pointer_for(location: tuple[Any, ...], document: Any, is_missing: bool = False) -> str:
+    """JSON Pointer for a Pydantic error location inside ``document`` (the request body);
+    ``is_missing`` keeps a last segment that names an absent field."""
+    parts: list[str] = []
+    current = document
+    segments = list(location)
+    if segments and segments[0] == "body":
+        segments = segments[1:]
+    for index, segment in enumerate(segments):
+        is_last = index == len(segments) - 1
+        if isinstance(current, dict) and isinstance(segment, str) and segment in current:
+            parts.append(_escape(segment))
+            current = current[segment]
+        elif isinstance(current, list) and isinstance(segment, int) and 0 <= segment < len(current):
+            parts.append(str(segment))
+            current = current[segment]
+        elif is_last and is_missing and isinstance(segment, str):
+            parts.append(_escape(segment))
+        # anything else is a union tag or validator label, not part of the document
+    return "/" + "/".join(parts) if parts else ""
+
+
+def _problem(status: int, slug: str, title: str, detail: str,
+             errors: list[ProblemItem]) -> JSONResponse:
+    body = Problem(type=_TYPE_BASE + slug, title=title, status=status, detail=detail, errors=errors)
+    return JSONResponse(body.model_dump(), status_code=status, media_type=MEDIA_TYPE)
+
+
+def _message(error: dict[str, Any]) -> str:
+    message = str(error.get("msg", "invalid value"))
+    return message.removeprefix("Value error, ")
+
+
+async def _on_validation(request: Request, exc: RequestValidationError) -> JSONResponse:
+    errors = list(exc.errors())
+    if any(error.get("type") == "json_invalid" for error in errors):
+        detail = "; ".join(str(error.get("ctx", {}).get("error", "")) or _message(error)
+                           for error in errors)
+        return _problem(400, "malformed-json", "Malformed JSON",
+                        f"the request body is not valid JSON: {detail}",
+                        [ProblemItem(pointer="", detail=detail)])
+    document = getattr(exc, "body", None)
+    items = [ProblemItem(pointer=pointer_for(tuple(error.get("loc", ())), document,
+                                             error.get("type") == "missing"),
+                         detail=_message(error)) for error in errors]
+    summary = "; ".join(f"{item.pointer or '/'}: {item.detail}" for item in items[:3])
+    return _problem(422, "invalid-request", "Invalid request", summary, items)
+
+
+async def _on_mixclock(request: Request, exc: Exception) -> JSONResponse:
+    assert isinstance(exc, MixclockError)
+    return _problem(422, exc.slug, exc.title, exc.detail,
+                    [ProblemItem(pointer=exc.pointer, detail=exc.detail)])
+
+
+async def _on_http(request: Request, exc: Exception) -> JSONResponse:
+    assert isinstance(exc, HTTPException)
+    return _problem(exc.status_code, f"http-{exc.status_code}", str(exc.detail), str(exc.detail), [])
+
+
+async def _on_unexpected(request: Request, exc: Exception) -> JSONResponse:
+    return _problem(500, "internal", "Internal error",
+                    "the service failed unexpectedly; please report the request that caused it", [])
+
+
+def install_problem_handlers(app: FastAPI) -> None:
+    app.add_exception_handler(RequestValidationError, _on_validation)  # type: ignore[arg-type]
+    app.add_exception_handler(MixclockError, _on_mixclock)
+    app.add_exception_handler(HTTPException, _on_http)
+    app.add_exception_handler(Exception, _on_unexpected)

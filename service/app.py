@@ -1,0 +1,81 @@
+"""The ASGI application: ``create_app()`` wires routers, error handlers and shared objects."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+from typing import Any
+
+from fastapi import FastAPI
+
+from service import __version__
+from service.api import estimates, health, history
+from service.api.problems import install_problem_handlers
+from service.settings import Settings, get_settings
+from service.solver import WARNING_CODES, Solver
+from service.units import Units
+
+__all__ = ["app", "create_app", "load_examples"]
+
+EXAMPLES_DIR = Path(__file__).resolve().parent.parent / "openapi_examples"
+# Request files are named <endpoint>.<scenario>.json; the endpoint part maps to a path.
+_EXAMPLE_PATHS = {"settling-time": "/v1/settling-time", "history": "/v1/history"}
+
+_DESCRIPTION = """\
+How long until a slab, long cylinder or sphere is mixed, homogenized or equilibrated, for
+diffusion or heat conduction, computed from exact eigen-expansions or a finite-volume
+operator solved exactly in time.
+
+Warning codes: """ + "; ".join(f"`{code}`: {text}" for code, text in WARNING_CODES.items()) + """.
+
+Every answer is a planning estimate, not a validated process: verify by measurement where
+safety or quality depends on it; local codes, specifications and licensed practice govern.
+"""
+
+
+def load_examples(directory: Path = EXAMPLES_DIR) -> dict[str, dict[str, dict[str, Any]]]:
+    """Named OpenAPI examples per path, from ``directory`` (empty if it is absent)."""
+    examples: dict[str, dict[str, dict[str, Any]]] = {}
+    if not directory.is_dir():
+        return examples
+    for path in sorted(directory.glob("*.json")):
+        endpoint, _, scenario = path.stem.partition(".")
+        if endpoint not in _EXAMPLE_PATHS or not scenario:
+            continue
+        document = json.loads(path.read_text(encoding="utf-8"))
+        examples.setdefault(_EXAMPLE_PATHS[endpoint], {})[scenario] = document
+    return examples
+
+
+def _with_examples(app: FastAPI, examples: dict[str, dict[str, dict[str, Any]]]) -> None:
+    def openapi() -> dict[str, Any]:
+        if app.openapi_schema:
+            return app.openapi_schema
+        from fastapi.openapi.utils import get_openapi
+
+        schema = get_openapi(title=app.title, version=app.version, description=app.description,
+                             routes=app.routes)
+        for path, named in examples.items():
+            content = schema["paths"][path]["post"]["requestBody"]["content"]["application/json"]
+            content["examples"] = named
+        app.openapi_schema = schema
+        return schema
+
+    app.openapi = openapi  # type: ignore[method-assign]
+
+
+def create_app(settings: Settings | None = None) -> FastAPI:
+    """A new application with its own engines (and their caches) and unit converter."""
+    app = FastAPI(title="mixclock", version=__version__, description=_DESCRIPTION)
+    app.state.settings = settings or get_settings()
+    app.state.solver = Solver()
+    app.state.units = Units()
+    app.include_router(estimates.router)
+    app.include_router(history.router)
+    app.include_router(health.router)
+    install_problem_handlers(app)
+    _with_examples(app, load_examples())
+    return app
+
+
+app = create_app()

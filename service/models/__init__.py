@@ -1,0 +1,33 @@
+"""Pydantic request and response contracts (no numerics here)."""
+
+from __future__ import annotations
+
+from service.models.requests import (
+    CaseRequest,
+    HistoryRequest,
+    PositionSpec,
+    SettlingRequest,
+)
+from service.models.responses import (
+    HistoryResponse,
+    Method,
+    Problem,
+    ProblemItem,
+    SettlingResponse,
+    SnapshotOut,
+    WarningOut,
+)
+
+__all__ = [
+    "CaseRequest",
+    "HistoryRequest",
+    "HistoryResponse",
+    "Method",
+    "PositionSpec",
+    "Problem",
+    "ProblemItem",
+    "SettlingRequest",
+    "SettlingResponse",
+    "SnapshotOut",
+    "WarningOut",
+]

@@ -1,0 +1,247 @@
+"""Request contracts for the settling-time and history endpoints.
+
+Quantities are a number in SI (the unit in each field's description) or a string
+"number unit" ("4 mm", "1.2 cm^2/h"); they are converted in :mod:`service.api.cases`,
+which reports a wrong unit against the field it came from.
+"""
+
+from __future__ import annotations
+
+from typing import Annotated, Literal
+
+from pydantic import BaseModel, ConfigDict, Field, model_validator
+
+__all__ = ["CaseRequest", "HistoryRequest", "PositionSpec", "SettlingRequest"]
+
+_QUANTITY_TEXT = Annotated[str, Field(min_length=1, max_length=96, strict=True)]
+_FINITE = Annotated[float, Field(allow_inf_nan=False, strict=True)]
+
+Quantity = _FINITE | _QUANTITY_TEXT
+Value = Annotated[
+    float,
+    Field(allow_inf_nan=False, ge=-1e12, le=1e12, strict=True,
+          description="A concentration, mass fraction or temperature in any one unit; answers "
+                      "come back in the same unit."),
+]
+Tolerance = Annotated[float, Field(gt=0, lt=1, allow_inf_nan=False, strict=True)]
+
+
+class _Strict(BaseModel):
+    model_config = ConfigDict(extra="forbid")
+
+
+class PositionSpec(_Strict):
+    """A position given by depth below a surface, or by the words centre/surface."""
+
+    depth: Quantity | None = Field(None, description="Depth below the surface (m, or 'number unit').")
+    at: Literal["centre", "surface"] | None = None
+    face: Literal["first", "second"] = Field(
+        "first", description="Slab only: which face 'surface' and 'depth' refer to (x = 0 is first).")
+
+    @model_validator(mode="after")
+    def _one_form(self) -> PositionSpec:
+        if (self.depth is None) == (self.at is None):
+            raise ValueError("give exactly one of 'depth' or 'at'")
+        return self
+
+
+Position = Annotated[
+    _FINITE | _QUANTITY_TEXT | PositionSpec,
+    Field(description="A length from the first face (slab, x) or from the centre (r); the words "
+                      "'centre' or 'surface'; or {'depth': ...} / {'at': ..., 'face': ...}."),
+]
+
+
+class SlabBody(_Strict):
+    shape: Literal["slab"]
+    thickness: Quantity | None = Field(None, description="Full thickness (m); x runs 0..thickness.")
+    half_thickness: Quantity | None = Field(None, description="Half the thickness (m).")
+
+    @model_validator(mode="after")
+    def _one_length(self) -> SlabBody:
+        if (self.thickness is None) == (self.half_thickness is None):
+            raise ValueError("give exactly one of 'thickness' or 'half_thickness'")
+        return self
+
+
+class RadialBody(_Strict):
+    shape: Literal["cylinder", "sphere"]
+    radius: Quantity | None = Field(None, description="Radius (m); r runs 0 (centre)..radius.")
+    diameter: Quantity | None = Field(None, description="Diameter (m).")
+
+    @model_validator(mode="after")
+    def _one_length(self) -> RadialBody:
+        if (self.radius is None) == (self.diameter is None):
+            raise ValueError("give exactly one of 'radius' or 'diameter'")
+        return self
+
+
+Body = Annotated[SlabBody | RadialBody, Field(discriminator="shape")]
+
+
+class Medium(_Strict):
+    diffusivity: Quantity = Field(
+        description="Mass diffusivity, or thermal diffusivity for heat (m^2/s, or 'number unit').")
+
+
+class UniformStart(_Strict):
+    kind: Literal["uniform"]
+    value: Value
+
+
+class BandStart(_Strict):
+    kind: Literal["band"]
+    between: tuple[Position, Position] = Field(
+        description="Two positions in increasing order: a layer of a slab, a shell of a "
+                    "cylinder or sphere.")
+    inside: Value
+    outside: Value
+
+
+class ProfileStart(_Strict):
+    kind: Literal["profile"]
+    positions: list[Position] = Field(
+        min_length=2, max_length=2000,
+        description="Strictly increasing positions; linear between, flat beyond. A jump is two "
+                    "points close together.")
+    values: list[Value] = Field(min_length=2, max_length=2000)
+
+    @model_validator(mode="after")
+    def _same_length(self) -> ProfileStart:
+        if len(self.positions) != len(self.values):
+            raise ValueError("'positions' and 'values' must have the same length")
+        return self
+
+
+Initial = Annotated[UniformStart | BandStart | ProfileStart, Field(discriminator="kind")]
+
+
+class NoFluxSurface(_Strict):
+    """Nothing enters or leaves (sealed, insulated)."""
+
+    kind: Literal["no_flux"]
+
+
+class FixedValueSurface(_Strict):
+    """The body's surface value is held."""
+
+    kind: Literal["fixed_value"]
+    value: Value
+
+
+class ConvectiveSurface(_Strict):
+    """Flux into the body J = k_f·(ambient − c_s); Bi = k_f·Lc/D. ``ambient`` is in the same
+    value units as the body."""
+
+    kind: Literal["convective"]
+    biot: float | None = Field(None, gt=0, le=1e6, allow_inf_nan=False,
+                               description="Biot number k_f·Lc/D, in (0, 1e6].")
+    transfer_coefficient: Quantity | None = Field(
+        None, description="Surface transfer coefficient k_f (m/s, or 'number unit').")
+    ambient: Value
+
+    @model_validator(mode="after")
+    def _one_rate(self) -> ConvectiveSurface:
+        if (self.biot is None) == (self.transfer_coefficient is None):
+            raise ValueError("give exactly one of 'biot' or 'transfer_coefficient'")
+        return self
+
+
+Surface = Annotated[
+    NoFluxSurface | FixedValueSurface | ConvectiveSurface, Field(discriminator="kind")
+]
+
+
+class MeanSquareCriterion(_Strict):
+    """⟨u²⟩(t)/⟨u²⟩(0) ≤ tolerance (the variance ratio with no-flux surfaces)."""
+
+    measure: Literal["mean_square_deviation"]
+    tolerance: Tolerance
+
+
+class MaxDeviationCriterion(_Strict):
+    """max|u(t)|/max|u(0)| ≤ tolerance ('95 % homogeneous' is 0.05)."""
+
+    measure: Literal["max_deviation"]
+    tolerance: Tolerance
+
+
+class RsdCriterion(_Strict):
+    """Relative standard deviation √⟨(c−⟨c⟩)²⟩/|⟨c⟩| ≤ tolerance (an absolute level)."""
+
+    measure: Literal["rsd"]
+    tolerance: Tolerance
+
+
+class EnergyCriterion(_Strict):
+    """Gradient (Dirichlet) energy over κ_1²⟨u²⟩(0) ≤ tolerance."""
+
+    measure: Literal["dirichlet_energy"]
+    tolerance: Tolerance
+
+
+class FractionCriterion(_Strict):
+    """|1 − F| ≤ 1 − fraction, F the fraction of the amount change completed."""
+
+    measure: Literal["fraction_equilibrated"]
+    fraction: Annotated[float, Field(gt=0, lt=1, allow_inf_nan=False)]
+
+
+class ValueAtCriterion(_Strict):
+    """|u(position)| ≤ tolerance·max|u(0)|, or ≤ absolute_tolerance in value units."""
+
+    measure: Literal["value_at"]
+    position: Position
+    tolerance: Tolerance | None = None
+    absolute_tolerance: float | None = Field(None, gt=0, le=1e12, allow_inf_nan=False)
+
+    @model_validator(mode="after")
+    def _one_tolerance(self) -> ValueAtCriterion:
+        if (self.tolerance is None) == (self.absolute_tolerance is None):
+            raise ValueError("give exactly one of 'tolerance' or 'absolute_tolerance'")
+        return self
+
+
+Criterion = Annotated[
+    MeanSquareCriterion
+    | MaxDeviationCriterion
+    | RsdCriterion
+    | EnergyCriterion
+    | FractionCriterion
+    | ValueAtCriterion,
+    Field(discriminator="measure"),
+]
+
+
+class CaseRequest(_Strict):
+    body: Body
+    medium: Medium
+    initial: Initial
+    surface: Surface
+    engine: Literal["auto", "series", "finite_volume"] = Field(
+        "auto", description="'auto' runs the exact series where it applies.")
+    accuracy: float = Field(1e-4, ge=1e-10, le=1e-2, allow_inf_nan=False,
+                            description="Target relative accuracy of time_s.")
+
+
+class SettlingRequest(CaseRequest):
+    criterion: Criterion
+
+
+class HistoryRequest(CaseRequest):
+    criterion: Criterion | None = None
+    times: list[Annotated[float, Field(gt=0, allow_inf_nan=False, le=1e15)]] | None = Field(
+        None, min_length=1, max_length=2000, description="Times in seconds, each > 0.")
+    time_count: int | None = Field(
+        None, ge=2, le=2000,
+        description="Times spread log-uniformly from 1/1000 of the settling time to twice it.")
+    snapshot_count: int = Field(5, ge=0, le=50, description="Profiles returned, spread over the times.")
+
+    @model_validator(mode="after")
+    def _one_time_source(self) -> HistoryRequest:
+        if (self.times is None) == (self.time_count is None):
+            raise ValueError("give exactly one of 'times' or 'time_count'")
+        if self.time_count is not None and self.criterion is None:
+            raise ValueError("'time_count' spreads times around the settling time, so it needs "
+                             "a 'criterion'")
+        return self

@@ -1,0 +1,84 @@
+"""Response contracts, including RFC 9457 problem details."""
+
+from __future__ import annotations
+
+from pydantic import BaseModel, Field
+
+__all__ = [
+    "HistoryResponse",
+    "Method",
+    "Problem",
+    "ProblemItem",
+    "SettlingResponse",
+    "SnapshotOut",
+    "WarningOut",
+]
+
+
+class Method(BaseModel):
+    engine: str = Field(description="'series' or 'finite_volume': the engine that ran.")
+    path: str = Field(description="'eigen': solved through the eigen-expansion in time.")
+    resolution: int = Field(description="Modes kept (series) or cells (finite_volume).")
+    estimated_relative_error: float | None = Field(
+        None,
+        description="Estimated relative error of time_s: the truncation bound plus the root-finder "
+                    "tolerance (series), or the difference from a coarser grid (finite_volume).")
+
+
+class WarningOut(BaseModel):
+    code: str
+    message: str
+
+
+class SettlingResponse(BaseModel):
+    time_s: float = Field(description="Earliest time after which the criterion holds for good.")
+    time_text: str
+    time_definition: str = Field(description="'monotone' or 'last_crossing'.")
+    fourier_number: float = Field(description="D·t/Lc².")
+    characteristic_length_m: float
+    length_convention: str = Field(description="'half_thickness' or 'radius'.")
+    final_value: float
+    slowest_rate_per_s: float = Field(description="D·λ1², the body's slowest mode.")
+    slowest_excited_rate_per_s: float = Field(description="The slowest mode the start excites.")
+    time_constant_s: float = Field(description="1/slowest_excited_rate_per_s.")
+    measures: dict[str, float | None] = Field(
+        description="Each measure defined for the case at time_s, as its criterion compares it "
+                    "(fraction_equilibrated as F itself); null where not finite.")
+    method: Method
+    biot: float | None = None
+    interpreted_positions_m: dict[str, float] = Field(
+        default_factory=dict, description="Every position in the request, in metres, by pointer.")
+    warnings: list[WarningOut]
+    assumptions: list[str]
+    cautions: list[str]
+
+
+class SnapshotOut(BaseModel):
+    time_s: float
+    positions_m: list[float]
+    values: list[float]
+
+
+class HistoryResponse(BaseModel):
+    times_s: list[float]
+    measures: dict[str, list[float | None]]
+    snapshots: list[SnapshotOut]
+    final_value: float
+    method: Method
+    interpreted_positions_m: dict[str, float] = Field(default_factory=dict)
+    cautions: list[str]
+
+
+class ProblemItem(BaseModel):
+    pointer: str = Field(description="JSON Pointer (RFC 6901) into the request body.")
+    detail: str
+
+
+class Problem(BaseModel):
+    """RFC 9457 problem details, served as application/problem+json."""
+
+    type: str
+    title: str
+    status: int
+    detail: str
+    errors: list[ProblemItem] = Field(default_factory=list)
