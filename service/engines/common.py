@@ -44,6 +44,7 @@ class ModalSolution:
     basis_at : positions in metres → matrix [positions, modes] of ψ_k values.
     sample_positions_m, sample_basis : where the largest |u| is sought, and ψ_k there.
     refine_max : whether a maximum found between samples is refined by a parabola.
+    slowest_rate_per_s : the body's slowest non-constant mode in this solution (1/s).
     valid_from_s : earliest time at which truncation stays below the accuracy asked.
     tail : bounds on what truncation leaves out at a time (None when nothing is left out).
     """
@@ -59,6 +60,7 @@ class ModalSolution:
     sample_basis: FloatArray
     refine_max: bool
     valid_from_s: float
+    slowest_rate_per_s: float
     tail: Callable[[float], TailBound] | None = None
 
     def decay(self, times_s: FloatArray) -> FloatArray:

@@ -176,6 +176,7 @@ class FiniteVolumeEngine:
             sample_basis=cell_modes,
             refine_max=True,
             valid_from_s=0.0,
+            slowest_rate_per_s=float(rates[0]),
             tail=None,
         )
 

@@ -195,6 +195,7 @@ class SeriesEngine:
             sample_basis=basis_at(samples),
             refine_max=True,
             valid_from_s=valid_from_s,
+            slowest_rate_per_s=diffusivity * (float(np.min(zeta_sorted[zeta_sorted > 0])) / length) ** 2,
             tail=tail,
         )
 
