@@ -41,7 +41,7 @@ from numpy.typing import NDArray
 from scipy import optimize
 
 from service.engines.common import ModalSolution, TailBound
-from service.engines.spectra import slowest_wavenumber
+from service.engines import spectra
 from service.errors import InvalidInput
 from service.physics import Case, Criterion, SurfaceKind
 
@@ -73,14 +73,16 @@ class Facts:
     fraction_refusal: str | None
 
     @classmethod
-    def of(cls, case: Case) -> Facts:
+    def of(cls, case: Case, slowest_wavenumber: float | None = None) -> Facts:
+        """Facts of ``case``; ``slowest_wavenumber`` (ζ1 on Lc) may come from an engine's cache."""
         body = case.body
         weight = case.body_weight
         final = case.final_value
         start = case.start
         surface = case.surface
         biot = surface.biot if surface.kind is SurfaceKind.CONVECTIVE else 0.0
-        zeta1 = slowest_wavenumber(body.geometry, surface.kind, biot)
+        zeta1 = (slowest_wavenumber if slowest_wavenumber is not None
+                 else spectra.slowest_wavenumber(body.geometry, surface.kind, biot))
         max_abs = start.max_abs_deviation(final)
         mean = start.body_moment(body.metric, shift=final) / weight
         scale = max(abs(final), float(np.max(np.abs(np.r_[start.v0, start.v1]))))
@@ -181,6 +183,11 @@ class _SquareSum(Measure):
 
     is_monotone = True
 
+    def __init__(self, facts: Facts, solution: ModalSolution, level: float) -> None:
+        super().__init__(facts, solution, level)
+        self._exponents = -2.0 * solution.rates_per_s
+        self._terms = self._weights() * solution.amplitudes**2 / self._normaliser()
+
     def _weights(self) -> FloatArray:
         return np.ones_like(self.solution.rates_per_s)
 
@@ -188,9 +195,10 @@ class _SquareSum(Measure):
         return self.facts.mean_square_start
 
     def values(self, times_s: FloatArray) -> FloatArray:
-        solution = self.solution
-        decay = np.exp(-2.0 * np.outer(times_s, solution.rates_per_s))
-        return np.asarray(decay @ (self._weights() * solution.amplitudes**2)) / self._normaliser()
+        return np.asarray(np.exp(np.outer(times_s, self._exponents)) @ self._terms)
+
+    def value(self, time_s: float) -> float:
+        return float(np.exp(self._exponents * time_s) @ self._terms)
 
 
 class MeanSquareDeviation(_SquareSum):
@@ -245,11 +253,34 @@ class MaxDeviation(Measure):
             peak = np.maximum(peak, _parabola_peak(solution.sample_positions_m, magnitude, best))
         return np.asarray(peak / self.facts.max_abs_start)
 
+    def value(self, time_s: float) -> float:
+        solution = self.solution
+        row = np.abs(solution.sample_basis @ (solution.amplitudes
+                                             * np.exp(-solution.rates_per_s * time_s)))
+        best = int(np.argmax(row))
+        peak = float(row[best])
+        if solution.refine_max and 0 < best < row.size - 1:
+            x = solution.sample_positions_m
+            peak = max(peak, _vertex(float(x[best - 1]), float(x[best]), float(x[best + 1]),
+                                     float(row[best - 1]), peak, float(row[best + 1])))
+        return peak / self.facts.max_abs_start
+
     def initial_value(self) -> float:
         return 1.0
 
     def truncation(self, tail: TailBound) -> float:
         return tail.sup / self.facts.max_abs_start
+
+
+def _vertex(x0: float, x1: float, x2: float, y0: float, y1: float, y2: float) -> float:
+    """Largest value of the parabola through three points, if it opens downward."""
+    d1 = (y1 - y0) / (x1 - x0)
+    d2 = (y2 - y1) / (x2 - x1)
+    curvature = (d2 - d1) / (x2 - x0)
+    if curvature >= 0:
+        return y1
+    offset = min(max(-(d1 - curvature * (x1 - x0)) / (2 * curvature), 0.0), x2 - x0)
+    return y0 + (d1 - curvature * (x1 - x0)) * offset + curvature * offset * offset
 
 
 def _parabola_peak(positions: FloatArray, magnitude: FloatArray, best: NDArray[np.intp]) -> FloatArray:
@@ -287,6 +318,10 @@ class _SignedSum(Measure):
 
     def values(self, times_s: FloatArray) -> FloatArray:
         return np.abs(self.signed(times_s)) / self._scale()
+
+    def value(self, time_s: float) -> float:
+        terms = np.exp(-self.solution.rates_per_s * time_s) @ self._coefficients()
+        return abs(float(terms)) / self._scale()
 
     def truncation(self, tail: TailBound) -> float:
         return tail.sup / self._scale()

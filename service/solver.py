@@ -12,10 +12,16 @@ from dataclasses import dataclass, field
 import numpy as np
 from numpy.typing import NDArray
 
-from service.engines import Engine, ModalSolution, make_engines
+from service.engines import Crossing, Engine, ModalSolution, SeriesEngine, make_engines
 from service.engines.series import FOURIER_FLOOR
 from service.errors import InvalidInput, NotApplicable
-from service.measures import Facts, build_measure, defined_measures, slowest_excited_rate
+from service.measures import (
+    Facts,
+    Measure,
+    build_measure,
+    defined_measures,
+    slowest_excited_rate,
+)
 from service.physics import Case, Geometry, SurfaceKind
 from service.settling import find_settling_time
 
@@ -121,6 +127,11 @@ class Solver:
     def __init__(self) -> None:
         self.engines: dict[str, Engine] = make_engines()
 
+    def _facts(self, case: Case) -> Facts:
+        series = self.engines["series"]
+        assert isinstance(series, SeriesEngine)
+        return Facts.of(case, series.slowest_wavenumber(case))
+
     def _engine(self, case: Case) -> Engine:
         name = "series" if case.engine == "auto" else case.engine
         engine = self.engines.get(name)
@@ -137,16 +148,25 @@ class Solver:
         criterion = case.criterion
         if criterion is None:
             raise InvalidInput("a settling time needs a criterion", "/criterion")
-        facts = Facts.of(case)
+        facts = self._facts(case)
         engine = self._engine(case)
 
-        def search(solution: ModalSolution, floor_s: float):  # type: ignore[no-untyped-def]
-            return find_settling_time(build_measure(case, facts, solution, criterion), floor_s)
+        built: dict[int, tuple[ModalSolution, Measure]] = {}
+
+        def measure_on(solution: ModalSolution) -> Measure:
+            entry = built.get(id(solution))
+            if entry is None or entry[0] is not solution:
+                entry = (solution, build_measure(case, facts, solution, criterion))
+                built[id(solution)] = entry
+            return entry[1]
+
+        def search(solution: ModalSolution, floor_s: float) -> Crossing:
+            return find_settling_time(measure_on(solution), floor_s)
 
         def truncation_error(solution: ModalSolution, time_s: float) -> float:
             if solution.tail is None or time_s <= 0:
                 return 0.0
-            measure = build_measure(case, facts, solution, criterion)
+            measure = measure_on(solution)
             error = measure.truncation(solution.tail(time_s))
             step = 1e-6 * time_s
             slope = abs(measure.value(time_s + step) - measure.value(time_s - step)) / (2 * step)
@@ -154,7 +174,7 @@ class Solver:
 
         run = engine.settle(case, search, truncation_error)
         crossing = run.crossing
-        measure = build_measure(case, facts, run.solution, criterion)
+        measure = measure_on(run.solution)
         warnings = list(run.warnings)
         time_s = crossing.time_s
         if crossing.hit_floor:
@@ -176,6 +196,7 @@ class Solver:
                                  f"nearly the same time"))
 
         measured = defined_measures(case, facts, run.solution, criterion)
+        measured[criterion.measure] = measure
         values: dict[str, float | None] = {}
         for name, each in measured.items():
             values[name] = _finite(each.reported(time_s) if time_s > 0 else each.initial_value())
@@ -213,7 +234,7 @@ class Solver:
             times = np.geomspace(1e-3 * settled, 2.0 * settled, time_count)
         else:
             times = np.asarray(times_s, dtype=float)
-        facts = Facts.of(case)
+        facts = self._facts(case)
         engine = self._engine(case)
         solution = engine.solution(case, float(np.min(times)))
         measured = defined_measures(case, facts, solution, case.criterion)

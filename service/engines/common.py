@@ -11,6 +11,7 @@ from __future__ import annotations
 
 from collections.abc import Callable
 from dataclasses import dataclass
+from functools import cached_property
 from typing import Protocol
 
 import numpy as np
@@ -42,7 +43,7 @@ class ModalSolution:
     amplitudes : b_k = ⟨u0, ψ_k⟩.
     mode_means : ⟨ψ_k⟩, so that ⟨u⟩ = Σ b_k ⟨ψ_k⟩ e^{−λ_k t}.
     basis_at : positions in metres → matrix [positions, modes] of ψ_k values.
-    sample_positions_m, sample_basis : where the largest |u| is sought, and ψ_k there.
+    sample_positions_m : where the largest |u| is sought (``sample_basis`` holds ψ_k there).
     refine_max : whether a maximum found between samples is refined by a parabola.
     slowest_rate_per_s : the body's slowest non-constant mode in this solution (1/s).
     valid_from_s : earliest time at which truncation stays below the accuracy asked.
@@ -57,11 +58,19 @@ class ModalSolution:
     mode_means: FloatArray
     basis_at: Callable[[FloatArray], FloatArray]
     sample_positions_m: FloatArray
-    sample_basis: FloatArray
     refine_max: bool
     valid_from_s: float
     slowest_rate_per_s: float
     tail: Callable[[float], TailBound] | None = None
+    given_sample_basis: FloatArray | None = None
+
+    @cached_property
+    def sample_basis(self) -> FloatArray:
+        """ψ_k at the sample positions, computed on first use (only the largest-deviation
+        measure and profiles need it)."""
+        if self.given_sample_basis is not None:
+            return self.given_sample_basis
+        return self.basis_at(self.sample_positions_m)
 
     def decay(self, times_s: FloatArray) -> FloatArray:
         """Matrix [times, modes] of exp(−λ_k t)."""

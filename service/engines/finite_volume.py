@@ -38,19 +38,19 @@ __all__ = ["FiniteVolumeEngine", "build_mesh"]
 
 FloatArray = NDArray[np.float64]
 
-# Cells at accuracy a are about this constant over sqrt(a) (100 cells at 1e-4).
-_CELLS_PER_ROOT_ACCURACY = 1.0
+# Cells at accuracy a are about this constant over sqrt(a) (160 cells at 1e-4).
+_CELLS_PER_ROOT_ACCURACY = 1.6
 _MIN_CELLS = 16
 # Above this many cells the eigendecomposition costs more than a query should; stop there.
 _MAX_CELLS = 3000
-# The second, coarser grid has this fraction of the cells (a ratio of 2 in cell size).
-_COARSE_FRACTION = 0.5
 # Grading: the smallest cell is this many diffusion lengths over the cell count, and
 # neighbouring cells grow by at most 1 + _GROWTH/cells.
 _GRADING_CELLS = 8.0
 _GROWTH = 8.0
 # Points per sub-interval on which the grading integral is tabulated.
 _GRADING_SAMPLES = 256
+# Safety factor of the two-grid error estimate (Roache's value for two grids).
+_SAFETY = 3.0
 # Refinement rounds before the engine reports the best it reached.
 _MAX_ROUNDS = 6
 # Fourier-number floor shared with the series engine's searches.
@@ -85,7 +85,9 @@ def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> Floa
             spacing = np.full(x.size, h_max)
         density = 1.0 / spacing
         cumulative = np.r_[0.0, np.cumsum(0.5 * (density[1:] + density[:-1]) * np.diff(x))]
-        count = max(1, math.ceil(cumulative[-1] - 1e-9))
+        # an even count per sub-interval, so that every second face (a coarser grid nested in
+        # this one) still lands on every break
+        count = 2 * max(1, math.ceil(0.5 * cumulative[-1] - 1e-9))
         targets = np.linspace(0.0, cumulative[-1], count + 1)[1:]
         inner = np.interp(targets, cumulative, x)
         inner[-1] = upper
@@ -173,11 +175,11 @@ class FiniteVolumeEngine:
             mode_means=mode_means,
             basis_at=basis_at,
             sample_positions_m=centres,
-            sample_basis=cell_modes,
             refine_max=True,
             valid_from_s=0.0,
             slowest_rate_per_s=float(rates[0]),
             tail=None,
+            given_sample_basis=cell_modes,
         )
 
     @staticmethod
@@ -212,20 +214,23 @@ class FiniteVolumeEngine:
         search: Callable[[ModalSolution, float], Crossing],
         truncation_error: Callable[[ModalSolution, float], float],
     ) -> EngineRun:
-        """Refine the grid until two grids (the second coarser) agree to the accuracy asked."""
+        """Refine the grid until two grids agree to the accuracy asked; the second grid takes
+        every other face of the first (nested, twice as coarse everywhere)."""
         floor_s = FOURIER_FLOOR * case.diffusion_time_s
         diffusivity = case.medium.diffusivity_m2_per_s
         cells = self._cells(case)
-        length: float | None = None
-        first = self.solution_on(case, build_mesh(case, cells, None))
-        crossing = search(first, floor_s)
-        length = self._grading(case, cells, math.sqrt(diffusivity * max(crossing.time_s, floor_s)))
+        fine_faces = build_mesh(case, cells, None)
+        fine = self.solution_on(case, fine_faces)
+        fine_crossing = search(fine, floor_s)
+        length = self._grading(case, cells,
+                               math.sqrt(diffusivity * max(fine_crossing.time_s, floor_s)))
         warnings: tuple[tuple[str, str], ...] = ()
-        for _ in range(_MAX_ROUNDS):
-            fine = self.solution_on(case, build_mesh(case, cells, length))
-            fine_crossing = search(fine, floor_s)
-            coarse_cells = max(_MIN_CELLS // 2, round(cells * _COARSE_FRACTION))
-            coarse = self.solution_on(case, build_mesh(case, coarse_cells, length))
+        for round_number in range(_MAX_ROUNDS):
+            if round_number > 0 or length is not None:
+                fine_faces = build_mesh(case, cells, length)
+                fine = self.solution_on(case, fine_faces)
+                fine_crossing = search(fine, floor_s)
+            coarse = self.solution_on(case, fine_faces[::2])
             coarse_crossing = search(coarse, floor_s)
             error = _two_grid_error(fine_crossing.time_s, coarse_crossing.time_s,
                                     fine.resolution / coarse.resolution)
@@ -244,12 +249,15 @@ class FiniteVolumeEngine:
 
 
 def _two_grid_error(fine_s: float, coarse_s: float, ratio: float) -> float:
-    """Estimated relative error of the fine-grid time for a second-order scheme."""
+    """Estimated relative error of the fine-grid time: Roache's grid convergence index for
+    two grids, F_s·|t_f − t_c|/((r² − 1)·t_f) with F_s = 3 and order 2 (P. J. Roache, J. Fluids
+    Eng. 116 (1994) 405; from memory). The safety factor covers grids not yet in the
+    asymptotic range, where the plain Richardson estimate was seen to be low by up to 6×."""
     if fine_s == coarse_s:
         return 0.0
     if fine_s <= 0.0:
         return math.inf
-    return abs(fine_s - coarse_s) / (max(ratio, 1.01) ** 2 - 1.0) / fine_s
+    return _SAFETY * abs(fine_s - coarse_s) / (max(ratio, 1.01) ** 2 - 1.0) / fine_s
 
 
 def _interpolate(

@@ -27,6 +27,7 @@ import math
 import threading
 from collections import OrderedDict
 from collections.abc import Callable
+from dataclasses import dataclass
 
 import numpy as np
 from numpy.typing import NDArray
@@ -79,6 +80,24 @@ def _tail_sum(zeta_last: float, spacing: float, fourier: float, growth: int) -> 
     return math.exp(-zeta_last * zeta_last * fourier) * polynomial
 
 
+@dataclass(frozen=True)
+class _ModeTable:
+    """Eigenvalues of one family with what does not depend on the start: √⟨φ²⟩ and ⟨ψ⟩."""
+
+    zeta: FloatArray
+    root_norm: FloatArray
+    mean: FloatArray
+
+    @classmethod
+    def of(cls, family: ModeFamily, zeta: FloatArray) -> _ModeTable:
+        root_norm = np.sqrt(family.norm(zeta))
+        whole, _ = family.moments(zeta, np.array([family.lower]), np.array([1.0]))
+        return cls(zeta, root_norm, whole[0] / family.body_measure / root_norm)
+
+    def head(self, count: int) -> _ModeTable:
+        return _ModeTable(self.zeta[:count], self.root_norm[:count], self.mean[:count])
+
+
 class SeriesEngine:
     """Exact eigen-expansions; eigenvalues cached by shape, surface kind and Biot number."""
 
@@ -86,26 +105,35 @@ class SeriesEngine:
 
     def __init__(self) -> None:
         self._lock = threading.Lock()
-        self._roots: OrderedDict[tuple[Geometry, SurfaceKind, float, int], FloatArray] = OrderedDict()
+        self._tables: OrderedDict[tuple[Geometry, SurfaceKind, float, int], _ModeTable] = OrderedDict()
 
     def check(self, case: Case) -> None:
         """Every homogeneous body of this service has an exact expansion."""
 
-    def _family_roots(self, case: Case, index: int, family: ModeFamily, count: int) -> FloatArray:
+    def _modes(self, case: Case, index: int, family: ModeFamily, count: int) -> _ModeTable:
+        """The first ``count`` modes of one family (ζ, norm and mean), grown by doubling."""
         surface = case.surface
         biot = surface.biot if surface.kind is SurfaceKind.CONVECTIVE else 0.0
         key = (case.body.geometry, surface.kind, biot, index)
         with self._lock:
-            cached = self._roots.get(key)
-            if cached is not None and cached.size >= count:
-                self._roots.move_to_end(key)
-                return cached[:count]
-        computed = family.roots[surface.kind](max(count, 2 * (cached.size if cached is not None else 0)), biot)
+            cached = self._tables.get(key)
+            if cached is not None and cached.zeta.size >= count:
+                self._tables.move_to_end(key)
+                return cached.head(count)
+        size = max(count, 2 * (cached.zeta.size if cached is not None else 0))
+        table = _ModeTable.of(family, family.roots[surface.kind](size, biot))
         with self._lock:
-            self._roots[key] = computed
-            while len(self._roots) > _CACHE_SIZE:
-                self._roots.popitem(last=False)
-        return computed[:count]
+            self._tables[key] = table
+            while len(self._tables) > _CACHE_SIZE:
+                self._tables.popitem(last=False)
+        return table.head(count)
+
+    def slowest_wavenumber(self, case: Case) -> float:
+        """The body's smallest non-zero ζ over all families (dimensionless, on Lc), cached."""
+        found = [self._modes(case, index, family, 2).zeta
+                 for index, family in enumerate(FAMILIES[case.body.geometry])]
+        candidates = np.concatenate(found)
+        return float(np.min(candidates[candidates > 0]))
 
     def solution(self, case: Case, earliest_time_s: float) -> ModalSolution:
         """A truncated expansion whose left-out part is negligible for t ≥ earliest_time_s."""
@@ -136,17 +164,14 @@ class SeriesEngine:
         zetas, amplitudes, means, norms, owners = [], [], [], [], []
         tails: list[tuple[float, float, float, float]] = []
         for index, family in enumerate(FAMILIES[body.geometry]):
-            zeta = self._family_roots(case, index, family, count)
+            table = self._modes(case, index, family, count)
+            zeta, root_norm = table.zeta, table.root_norm
             m0, m1 = family.moments(zeta, xi0, xi1)
-            measure = family.body_measure
-            norm = family.norm(zeta)
-            root_norm = np.sqrt(norm)
-            projection = (intercept @ m0 + slope @ m1) / measure
+            projection = (intercept @ m0 + slope @ m1) / family.body_measure
             amplitude = np.where(zeta > 0, projection / root_norm, 0.0)
-            whole0, _ = family.moments(zeta, np.array([family.lower]), np.array([1.0]))
             zetas.append(zeta)
             amplitudes.append(amplitude)
-            means.append(whole0[0] / measure / root_norm)
+            means.append(table.mean)
             norms.append(root_norm)
             owners.append(np.full(zeta.size, index))
             last = slice(zeta.size // 2, None)
@@ -192,7 +217,6 @@ class SeriesEngine:
             mode_means=np.concatenate(means)[order],
             basis_at=basis_at,
             sample_positions_m=samples,
-            sample_basis=basis_at(samples),
             refine_max=True,
             valid_from_s=valid_from_s,
             slowest_rate_per_s=diffusivity * (float(np.min(zeta_sorted[zeta_sorted > 0])) / length) ** 2,

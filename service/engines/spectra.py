@@ -131,14 +131,19 @@ class ModeFamily:
 
     def moments(self, zeta: FloatArray, a: FloatArray, b: FloatArray) -> tuple[FloatArray, FloatArray]:
         """∫_a^b ξ^j φ(ζξ) ξ^m dξ for j = 0 and 1, as matrices [intervals, modes]."""
-        reach = np.maximum(np.abs(a), np.abs(b))[:, None] * zeta[None, :]
-        small = reach <= _SMALL_ARGUMENT
-        m0, m1 = self._series_moments(zeta, a, b)
+        reach = float(max(np.max(np.abs(a)), np.max(np.abs(b))))
+        small = zeta * reach <= _SMALL_ARGUMENT
+        if not np.any(small):
+            return self.closed_moments(zeta[None, :], np.stack([a, b], axis=0)[:, :, None])
         if np.all(small):
-            return m0, m1
-        safe_zeta = np.where(zeta > 0, zeta, 1.0)
-        c0, c1 = self.closed_moments(safe_zeta[None, :], np.stack([a, b], axis=0)[:, :, None])
-        return np.where(small, m0, c0), np.where(small, m1, c1)
+            return self._series_moments(zeta, a, b)
+        m0, m1 = self.closed_moments(zeta[None, ~small], np.stack([a, b], axis=0)[:, :, None])
+        s0, s1 = self._series_moments(zeta[small], a, b)
+        out0 = np.empty((a.size, zeta.size))
+        out1 = np.empty((a.size, zeta.size))
+        out0[:, ~small], out1[:, ~small] = m0, m1
+        out0[:, small], out1[:, small] = s0, s1
+        return out0, out1
 
     def _series_moments(self, zeta: FloatArray, a: FloatArray, b: FloatArray) -> tuple[FloatArray, FloatArray]:
         k = np.arange(self.phi_series.size)

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from functools import cached_property
 from enum import Enum, IntEnum
 
 import numpy as np
@@ -131,7 +132,18 @@ class Start:
 
     def body_moment(self, metric: int, shift: float = 0.0, power: int = 1) -> float:
         """Exact ∫ (c − shift)**power r**metric dr over the whole body."""
-        return float(np.sum(self.moments(metric, self.x0, self.x1, shift, power)))
+        values, weights = self._body_nodes(metric)
+        return float(np.dot((values - shift) ** power, weights))
+
+    def _body_nodes(self, metric: int) -> tuple[FloatArray, FloatArray]:
+        """Start values and quadrature weights (times r**metric) at every segment's nodes."""
+        cache: dict[int, tuple[FloatArray, FloatArray]] = self.__dict__.setdefault("_nodes", {})
+        if metric not in cache:
+            width = (self.x1 - self.x0)[:, None]
+            x = self.x0[:, None] + width * _GL_X[None, :]
+            values = self.v0[:, None] + (self.v1 - self.v0)[:, None] * _GL_X[None, :]
+            cache[metric] = (values.ravel(), (width * _GL_W[None, :] * x**metric).ravel())
+        return cache[metric]
 
     def max_abs_deviation(self, reference: float) -> float:
         return float(np.max(np.abs(np.r_[self.v0, self.v1] - reference)))
@@ -176,7 +188,7 @@ class Case:
     def body_weight(self) -> float:
         return self.body.weight_integral(0.0, self.body.extent_m)
 
-    @property
+    @cached_property
     def final_value(self) -> float:
         """The uniform state the body tends to."""
         if self.surface.kind is SurfaceKind.NO_FLUX:
