@@ -10,6 +10,7 @@ from fastapi import FastAPI
 
 from service import __version__
 from service.api import estimates, health, history
+from service.api.problems import MEDIA_TYPE as PROBLEM_MEDIA_TYPE
 from service.api.problems import install_problem_handlers
 from service.settings import Settings, get_settings
 from service.solver import WARNING_CODES, Solver
@@ -47,7 +48,8 @@ def load_examples(directory: Path = EXAMPLES_DIR) -> dict[str, dict[str, dict[st
     return examples
 
 
-def _with_examples(app: FastAPI, examples: dict[str, dict[str, dict[str, Any]]]) -> None:
+def _customise_openapi(app: FastAPI, examples: dict[str, dict[str, dict[str, Any]]]) -> None:
+    """Named request examples, and problem details declared as application/problem+json."""
     def openapi() -> dict[str, Any]:
         if app.openapi_schema:
             return app.openapi_schema
@@ -58,6 +60,12 @@ def _with_examples(app: FastAPI, examples: dict[str, dict[str, dict[str, Any]]])
         for path, named in examples.items():
             content = schema["paths"][path]["post"]["requestBody"]["content"]["application/json"]
             content["examples"] = named
+        for operations in schema["paths"].values():
+            for operation in operations.values():
+                for status in ("400", "422"):
+                    content = operation.get("responses", {}).get(status, {}).get("content", {})
+                    if "application/json" in content:
+                        content[PROBLEM_MEDIA_TYPE] = content.pop("application/json")
         app.openapi_schema = schema
         return schema
 
@@ -74,7 +82,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.include_router(history.router)
     app.include_router(health.router)
     install_problem_handlers(app)
-    _with_examples(app, load_examples())
+    _customise_openapi(app, load_examples())
     return app
 
 

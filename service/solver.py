@@ -31,6 +31,8 @@ FloatArray = NDArray[np.float64]
 
 # The classical lumped-capacity rule: Bi on V/A below this and one number will do.
 LUMPED_BIOT = 0.1
+# A measure this far below its level at the earliest time searched is met from t → 0.
+IMMEDIATE_FRACTION = 1e-6
 # Positions across the body in each history snapshot.
 SNAPSHOT_POINTS = 101
 
@@ -39,7 +41,8 @@ WARNING_CODES: dict[str, str] = {
     "model would give nearly the same time",
     "near_tangent": "a local maximum of the measure nearly touches the tolerance after the "
     "answer: a small change of the inputs can move the time a lot",
-    "settles_immediately": "the start already meets the criterion and keeps meeting it",
+    "settles_immediately": "the criterion is met from the start (or from t → 0, as at a point on "
+    "a held surface) and keeps being met",
     "settles_before_resolved_time": "the criterion is met before Fo = 1e-6, the earliest time "
     "searched; the time given is that upper bound",
     "resolution_capped": "the finite-volume grid reached its cell cap before its estimated error "
@@ -178,7 +181,11 @@ class Solver:
         warnings = list(run.warnings)
         time_s = crossing.time_s
         if crossing.hit_floor:
-            if crossing.holds_throughout and measure.initial_value() <= measure.level:
+            # met throughout the search, and either at the start too or so far below its level
+            # at the earliest time searched that it is met from t → 0 (a point on a held surface)
+            if crossing.holds_throughout and (
+                    measure.initial_value() <= measure.level
+                    or measure.value(crossing.time_s) <= IMMEDIATE_FRACTION * measure.level):
                 time_s = 0.0
                 warnings.append(("settles_immediately", WARNING_CODES["settles_immediately"]))
             else:

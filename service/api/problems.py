@@ -17,15 +17,15 @@ from starlette.exceptions import HTTPException
 from service.errors import MixclockError
 from service.models import Problem, ProblemItem
 
-__all__ = ["PROBLEM_RESPONSES", "install_problem_handlers", "pointer_for"]
+__all__ = ["MEDIA_TYPE", "PROBLEM_RESPONSES", "install_problem_handlers", "pointer_for"]
 
 MEDIA_TYPE = "application/problem+json"
 _TYPE_BASE = "https://mixclock.invalid/problems/"
 
 PROBLEM_RESPONSES: dict[int | str, dict[str, Any]] = {
-    400: {"model": Problem, "description": "Malformed JSON.", "content": {MEDIA_TYPE: {}}},
+    400: {"model": Problem, "description": "Malformed JSON."},
     422: {"model": Problem, "description": "Invalid content; `errors` names each field by JSON "
-          "Pointer.", "content": {MEDIA_TYPE: {}}},
+          "Pointer."},
 }
 
 
@@ -66,6 +66,16 @@ def _message(error: dict[str, Any]) -> str:
     return message.removeprefix("Value error, ")
 
 
+def _pointer_of(error: dict[str, Any], document: Any) -> str:
+    """The pointer of one Pydantic error; a bad or missing union tag points at the tag field."""
+    location = tuple(error.get("loc", ()))
+    kind = error.get("type")
+    if kind in ("union_tag_invalid", "union_tag_not_found"):
+        tag = str(error.get("ctx", {}).get("discriminator", "")).strip("'\"")
+        return pointer_for((*location, tag), document, is_missing=True)
+    return pointer_for(location, document, is_missing=kind == "missing")
+
+
 async def _on_validation(request: Request, exc: RequestValidationError) -> JSONResponse:
     errors = list(exc.errors())
     if any(error.get("type") == "json_invalid" for error in errors):
@@ -75,9 +85,8 @@ async def _on_validation(request: Request, exc: RequestValidationError) -> JSONR
                         f"the request body is not valid JSON: {detail}",
                         [ProblemItem(pointer="", detail=detail)])
     document = getattr(exc, "body", None)
-    items = [ProblemItem(pointer=pointer_for(tuple(error.get("loc", ())), document,
-                                             error.get("type") == "missing"),
-                         detail=_message(error)) for error in errors]
+    items = [ProblemItem(pointer=_pointer_of(error, document), detail=_message(error))
+             for error in errors]
     summary = "; ".join(f"{item.pointer or '/'}: {item.detail}" for item in items[:3])
     return _problem(422, "invalid-request", "Invalid request", summary, items)
 

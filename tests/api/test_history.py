@@ -1,0 +1,57 @@
+"""POST /v1/history through HTTP."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+from fastapi.testclient import TestClient
+
+from tests.conftest import slab_request
+
+
+def test_history_times_spread_around_settling_time(client: TestClient) -> None:
+    settled = client.post("/v1/settling-time", json=slab_request()).json()["time_s"]
+    body = client.post("/v1/history", json={**slab_request(), "time_count": 11}).json()
+    assert body["times_s"][0] == pytest.approx(1e-3 * settled, rel=1e-9)
+    assert body["times_s"][-1] == pytest.approx(2 * settled, rel=1e-9)
+    assert len(body["snapshots"]) == 5
+    fractions = body["measures"]["fraction_equilibrated"]
+    assert all(b >= a for a, b in zip(fractions, fractions[1:], strict=False))
+
+
+def test_history_profiles_match_sheet_series_at_centre(client: TestClient) -> None:
+    # Crank (1975) eq. 4.17 (sheet held at 1, initially 0), centre value:
+    # 1 − (4/π) Σ (−1)^n/(2n+1) exp(−D(2n+1)²π²t/(4a²)), a the half-thickness.
+    request = {**slab_request(), "times": [600.0, 3600.0], "snapshot_count": 2}
+    request.pop("criterion")
+    body = client.post("/v1/history", json=request).json()
+    half, diffusivity = 0.002, 7.5e-10
+    for snapshot in body["snapshots"]:
+        t = snapshot["time_s"]
+        expected = 1 - 4 / math.pi * sum(
+            (-1) ** n / (2 * n + 1) * math.exp(-diffusivity * (2 * n + 1) ** 2 * math.pi**2 * t
+                                               / (4 * half**2)) for n in range(200))
+        middle = len(snapshot["positions_m"]) // 2
+        assert snapshot["positions_m"][middle] == pytest.approx(half)
+        assert snapshot["values"][middle] == pytest.approx(expected, abs=1e-8)
+
+
+@pytest.mark.parametrize(("extra", "pointer"), [
+    ({"times": [1.0], "time_count": 5}, ""),
+    ({"times": [-1.0]}, "/times/0"),
+    ({"times": []}, "/times"),
+    ({"time_count": 1}, "/time_count"),
+    ({"snapshot_count": 99, "times": [1.0]}, "/snapshot_count"),
+])
+def test_history_errors_name_the_field(client: TestClient, extra: dict, pointer: str) -> None:  # type: ignore[type-arg]
+    response = client.post("/v1/history", json={**slab_request(), **extra})
+    assert response.status_code == 422
+    assert pointer in [error["pointer"] for error in response.json()["errors"]]
+
+
+def test_history_time_count_needs_criterion(client: TestClient) -> None:
+    request = {**slab_request(), "time_count": 5}
+    request.pop("criterion")
+    response = client.post("/v1/history", json=request)
+    assert response.status_code == 422
