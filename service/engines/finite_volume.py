@@ -44,9 +44,11 @@ _MIN_CELLS = 16
 # Above this many cells the eigendecomposition costs more than a query should; stop there.
 _MAX_CELLS = 3000
 # Grading: the smallest cell is this many diffusion lengths over the cell count, and
-# neighbouring cells grow by at most 1 + _GROWTH/cells.
-_GRADING_CELLS = 8.0
+# neighbouring cells grow by at most 1 + _GROWTH/cells. Grading starts when the diffusion
+# length at the answer is below _GRADE_BELOW of the body's extent.
+_GRADING_CELLS = 1.0
 _GROWTH = 8.0
+_GRADE_BELOW = 0.25
 # Points per sub-interval on which the grading integral is tabulated.
 _GRADING_SAMPLES = 256
 # Safety factor of the two-grid error estimate (Roache's value for two grids).
@@ -61,7 +63,7 @@ def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> Floa
     """Face positions 0..extent with faces on every break of the start.
 
     With ``diffusion_length_m`` the spacing is graded: h(x) = min(h_max, h_min + g·dist),
-    h_max = extent/cells, h_min = 8·ℓ/cells, g = 8/cells, dist the distance to the nearest
+    h_max = extent/cells, h_min = ℓ/cells, g = 8/cells, dist the distance to the nearest
     exchanging surface or break. Without it the spacing is uniform (h_max)."""
     extent = case.body.extent_m
     breaks = case.start.breakpoints_m
@@ -203,8 +205,8 @@ class FiniteVolumeEngine:
 
     @staticmethod
     def _grading(case: Case, cells: int, diffusion_length_m: float) -> float | None:
-        """Grade only when the diffusion length is shorter than a few uniform cells' worth."""
-        if diffusion_length_m * cells >= _GRADING_CELLS * case.body.extent_m:
+        """Grade only when the diffusion length is short against the body."""
+        if diffusion_length_m >= _GRADE_BELOW * case.body.extent_m:
             return None
         return diffusion_length_m
 
