@@ -38,21 +38,23 @@ __all__ = ["FiniteVolumeEngine", "build_mesh"]
 
 FloatArray = NDArray[np.float64]
 
-# Cells at accuracy a are about this constant over sqrt(a) (160 cells at 1e-4).
-_CELLS_PER_ROOT_ACCURACY = 1.6
-_MIN_CELLS = 16
+# Cells at accuracy a are about this constant over sqrt(a) (120 cells at 1e-4).
+_CELLS_PER_ROOT_ACCURACY = 1.2
+_MIN_CELLS = 32
 # Above this many cells the eigendecomposition costs more than a query should; stop there.
 _MAX_CELLS = 3000
 # Grading: the smallest cell is this many diffusion lengths over the cell count, and
 # neighbouring cells grow by at most 1 + _GROWTH/cells. Grading starts when the diffusion
 # length at the answer is below _GRADE_BELOW of the body's extent.
 _GRADING_CELLS = 1.0
-_GROWTH = 8.0
+_GROWTH = 4.0
 _GRADE_BELOW = 0.25
 # Points per sub-interval on which the grading integral is tabulated.
 _GRADING_SAMPLES = 256
-# Safety factor of the two-grid error estimate (Roache's value for two grids).
+# Safety factors of the grid convergence index: when the observed order is confirmed, and not.
+_SAFETY_CONFIRMED = 1.25
 _SAFETY = 3.0
+_ORDER_BAND = (1.5, 2.5)
 # Refinement rounds before the engine reports the best it reached.
 _MAX_ROUNDS = 6
 # Fourier-number floor shared with the series engine's searches.
@@ -63,7 +65,7 @@ def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> Floa
     """Face positions 0..extent with faces on every break of the start.
 
     With ``diffusion_length_m`` the spacing is graded: h(x) = min(h_max, h_min + g·dist),
-    h_max = extent/cells, h_min = ℓ/cells, g = 8/cells, dist the distance to the nearest
+    h_max = extent/cells, h_min = ℓ/cells, g = 4/cells, dist the distance to the nearest
     exchanging surface or break. Without it the spacing is uniform (h_max)."""
     extent = case.body.extent_m
     breaks = case.start.breakpoints_m
@@ -87,9 +89,9 @@ def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> Floa
             spacing = np.full(x.size, h_max)
         density = 1.0 / spacing
         cumulative = np.r_[0.0, np.cumsum(0.5 * (density[1:] + density[:-1]) * np.diff(x))]
-        # an even count per sub-interval, so that every second face (a coarser grid nested in
-        # this one) still lands on every break
-        count = 2 * max(1, math.ceil(0.5 * cumulative[-1] - 1e-9))
+        # a count per sub-interval divisible by four, so that every second and every fourth
+        # face (two coarser grids nested in this one) still land on every break
+        count = 4 * max(1, math.ceil(0.25 * cumulative[-1] - 1e-9))
         targets = np.linspace(0.0, cumulative[-1], count + 1)[1:]
         inner = np.interp(targets, cumulative, x)
         inner[-1] = upper
@@ -216,8 +218,8 @@ class FiniteVolumeEngine:
         search: Callable[[ModalSolution, float], Crossing],
         truncation_error: Callable[[ModalSolution, float], float],
     ) -> EngineRun:
-        """Refine the grid until two grids agree to the accuracy asked; the second grid takes
-        every other face of the first (nested, twice as coarse everywhere)."""
+        """Refine the grid until its grid convergence index meets the accuracy asked; the two
+        coarser grids take every second and every fourth face of the fine one (nested)."""
         floor_s = FOURIER_FLOOR * case.diffusion_time_s
         diffusivity = case.medium.diffusivity_m2_per_s
         cells = self._cells(case)
@@ -234,8 +236,10 @@ class FiniteVolumeEngine:
                 fine_crossing = search(fine, floor_s)
             coarse = self.solution_on(case, fine_faces[::2])
             coarse_crossing = search(coarse, floor_s)
-            error = _two_grid_error(fine_crossing.time_s, coarse_crossing.time_s,
-                                    fine.resolution / coarse.resolution)
+            coarsest = self.solution_on(case, fine_faces[::4])
+            coarsest_crossing = search(coarsest, floor_s)
+            error = _grid_convergence_index(fine_crossing.time_s, coarse_crossing.time_s,
+                                            coarsest_crossing.time_s)
             if error <= case.accuracy:
                 return EngineRun(fine, fine_crossing, error)
             if cells >= _MAX_CELLS:
@@ -250,16 +254,21 @@ class FiniteVolumeEngine:
         return EngineRun(fine, fine_crossing, error, warnings)
 
 
-def _two_grid_error(fine_s: float, coarse_s: float, ratio: float) -> float:
-    """Estimated relative error of the fine-grid time: Roache's grid convergence index for
-    two grids, F_s·|t_f − t_c|/((r² − 1)·t_f) with F_s = 3 and order 2 (P. J. Roache, J. Fluids
-    Eng. 116 (1994) 405; from memory). The safety factor covers grids not yet in the
-    asymptotic range, where the plain Richardson estimate was seen to be low by up to 6×."""
-    if fine_s == coarse_s:
-        return 0.0
+def _grid_convergence_index(fine_s: float, coarse_s: float, coarsest_s: float) -> float:
+    """Estimated relative error of the fine-grid time from three nested grids (cell size
+    ratio 2): Roache's grid convergence index F_s·|t_f − t_c|/((2² − 1)·t_f), with F_s = 1.25
+    when the observed order log2(|t_c − t_cc|/|t_f − t_c|) confirms second order (within
+    1.5..2.5) and F_s = 3 otherwise (P. J. Roache, J. Fluids Eng. 116 (1994) 405; from memory).
+    """
     if fine_s <= 0.0:
-        return math.inf
-    return _SAFETY * abs(fine_s - coarse_s) / (max(ratio, 1.01) ** 2 - 1.0) / fine_s
+        return 0.0 if fine_s == coarse_s else math.inf
+    difference = abs(fine_s - coarse_s)
+    if difference == 0.0:
+        return 0.0
+    previous = abs(coarse_s - coarsest_s)
+    order = math.log2(previous / difference) if previous > 0 else 0.0
+    safety = _SAFETY_CONFIRMED if _ORDER_BAND[0] <= order <= _ORDER_BAND[1] else _SAFETY
+    return safety * difference / 3.0 / fine_s
 
 
 def _interpolate(
