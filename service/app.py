@@ -22,16 +22,20 @@ EXAMPLES_DIR = Path(__file__).resolve().parent.parent / "openapi_examples"
 # Request files are named <endpoint>.<scenario>.json; the endpoint part maps to a path.
 _EXAMPLE_PATHS = {"settling-time": "/v1/settling-time", "history": "/v1/history"}
 
-_DESCRIPTION = """\
+_DESCRIPTION = (
+    """\
 How long until a slab, long cylinder or sphere is mixed, homogenized or equilibrated, for
 diffusion or heat conduction, computed from exact eigen-expansions or a finite-volume
 operator solved exactly in time.
 
-Warning codes: """ + "; ".join(f"`{code}`: {text}" for code, text in WARNING_CODES.items()) + """.
+Warning codes: """
+    + "; ".join(f"`{code}`: {text}" for code, text in WARNING_CODES.items())
+    + """.
 
 Every answer is a planning estimate, not a validated process: verify by measurement where
 safety or quality depends on it; local codes, specifications and licensed practice govern.
 """
+)
 
 
 def load_examples(directory: Path = EXAMPLES_DIR) -> dict[str, dict[str, dict[str, Any]]]:
@@ -50,13 +54,15 @@ def load_examples(directory: Path = EXAMPLES_DIR) -> dict[str, dict[str, dict[st
 
 def _customise_openapi(app: FastAPI, examples: dict[str, dict[str, dict[str, Any]]]) -> None:
     """Named request examples, and problem details declared as application/problem+json."""
+
     def openapi() -> dict[str, Any]:
         if app.openapi_schema:
             return app.openapi_schema
         from fastapi.openapi.utils import get_openapi
 
-        schema = get_openapi(title=app.title, version=app.version, description=app.description,
-                             routes=app.routes)
+        schema = get_openapi(
+            title=app.title, version=app.version, description=app.description, routes=app.routes
+        )
         for path, named in examples.items():
             content = schema["paths"][path]["post"]["requestBody"]["content"]["application/json"]
             content["examples"] = named

@@ -22,8 +22,13 @@ def main(argv: Sequence[str] | None = None) -> int:
     if arguments.command == "serve":
         import uvicorn
 
-        uvicorn.run("service.app:app", host=arguments.host, port=arguments.port,
-                    workers=arguments.workers, log_level=settings.log_level)
+        uvicorn.run(
+            "service.app:app",
+            host=arguments.host,
+            port=arguments.port,
+            workers=arguments.workers,
+            log_level=settings.log_level,
+        )
     return 0
 
 

@@ -2,11 +2,11 @@
 
 ::
 
-    MixclockError                 base; never escapes the API as a 500
-    ├── InvalidInput              a request value is wrong; carries a JSON pointer → 422
-    │   └── UnitError             a quantity's number or unit cannot be read or has the wrong dimension
-    ├── NotApplicable             the case is valid but the chosen engine or measure cannot answer it → 422
-    └── NumericalFailure          an engine could not reach a trustworthy answer → 422 with the reason
+    MixclockError          base; never escapes the API as a 500
+    ├── InvalidInput       a request value is wrong; carries a JSON pointer → 422
+    │   └── UnitError      a quantity cannot be read or has the wrong dimension → 422
+    ├── NotApplicable      valid, but the engine or measure asked for cannot answer it → 422
+    └── NumericalFailure   an engine could not reach a trustworthy answer → 422
 
 Each carries ``pointer`` (an RFC 6901 JSON Pointer into the request, possibly empty)
 and a ``detail`` that tells the caller what is accepted or what to change.

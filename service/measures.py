@@ -40,8 +40,8 @@ import numpy as np
 from numpy.typing import NDArray
 from scipy import optimize
 
-from service.engines.common import ModalSolution, TailBound
 from service.engines import spectra
+from service.engines.common import ModalSolution, TailBound
 from service.errors import InvalidInput
 from service.physics import Case, Criterion, SurfaceKind
 
@@ -81,8 +81,11 @@ class Facts:
         start = case.start
         surface = case.surface
         biot = surface.biot if surface.kind is SurfaceKind.CONVECTIVE else 0.0
-        zeta1 = (slowest_wavenumber if slowest_wavenumber is not None
-                 else spectra.slowest_wavenumber(body.geometry, surface.kind, biot))
+        zeta1 = (
+            slowest_wavenumber
+            if slowest_wavenumber is not None
+            else spectra.slowest_wavenumber(body.geometry, surface.kind, biot)
+        )
         max_abs = start.max_abs_deviation(final)
         mean = start.body_moment(body.metric, shift=final) / weight
         scale = max(abs(final), float(np.max(np.abs(np.r_[start.v0, start.v1]))))
@@ -105,25 +108,33 @@ class Facts:
 
 def _rsd_refusal(case: Case, final: float) -> str | None:
     if final == 0.0:
-        return ("rsd needs a non-zero final value: the relative standard deviation divides by "
-                "the mean, which tends to zero here")
+        return (
+            "rsd needs a non-zero final value: the relative standard deviation divides by "
+            "the mean, which tends to zero here"
+        )
     values = set(case.start.signs())
     if case.surface.kind is not SurfaceKind.NO_FLUX and case.surface.value != 0.0:
         values.add(int(np.sign(case.surface.value)))
     if len(values) > 1:
-        return ("rsd needs every start and surface value to have one sign (the mean could pass "
-                "through zero and the RSD depends on where zero is); use mean_square_deviation "
-                "or max_deviation")
+        return (
+            "rsd needs every start and surface value to have one sign (the mean could pass "
+            "through zero and the RSD depends on where zero is); use mean_square_deviation "
+            "or max_deviation"
+        )
     return None
 
 
 def _fraction_refusal(case: Case, mean: float, scale: float) -> str | None:
     if case.surface.kind is SurfaceKind.NO_FLUX:
-        return ("fraction_equilibrated needs an amount that changes: with no_flux surfaces the "
-                "amount is conserved; use mean_square_deviation, max_deviation or rsd")
+        return (
+            "fraction_equilibrated needs an amount that changes: with no_flux surfaces the "
+            "amount is conserved; use mean_square_deviation, max_deviation or rsd"
+        )
     if abs(mean) <= AMOUNT_FRACTION * scale:
-        return ("fraction_equilibrated needs an amount that changes: here the body's start holds "
-                "the same amount as its final state")
+        return (
+            "fraction_equilibrated needs an amount that changes: here the body's start holds "
+            "the same amount as its final state"
+        )
     return None
 
 
@@ -225,7 +236,11 @@ class DirichletEnergy(_SquareSum):
         # the solution's own slowest mode, so that energy ≥ mean-square ratio holds exactly
         # for each engine (the finite-volume eigenvalue differs from the exact one by O(h²))
         solution = self.solution
-        return solution.slowest_rate_per_s / solution.diffusivity_m2_per_s * self.facts.mean_square_start
+        return (
+            solution.slowest_rate_per_s
+            / solution.diffusivity_m2_per_s
+            * self.facts.mean_square_start
+        )
 
     def initial_value(self) -> float:
         return math.inf
@@ -255,14 +270,24 @@ class MaxDeviation(Measure):
 
     def value(self, time_s: float) -> float:
         solution = self.solution
-        row = np.abs(solution.sample_basis @ (solution.amplitudes
-                                             * np.exp(-solution.rates_per_s * time_s)))
+        row = np.abs(
+            solution.sample_basis @ (solution.amplitudes * np.exp(-solution.rates_per_s * time_s))
+        )
         best = int(np.argmax(row))
         peak = float(row[best])
         if solution.refine_max and 0 < best < row.size - 1:
             x = solution.sample_positions_m
-            peak = max(peak, _vertex(float(x[best - 1]), float(x[best]), float(x[best + 1]),
-                                     float(row[best - 1]), peak, float(row[best + 1])))
+            peak = max(
+                peak,
+                _vertex(
+                    float(x[best - 1]),
+                    float(x[best]),
+                    float(x[best + 1]),
+                    float(row[best - 1]),
+                    peak,
+                    float(row[best + 1]),
+                ),
+            )
         return peak / self.facts.max_abs_start
 
     def initial_value(self) -> float:
@@ -283,7 +308,9 @@ def _vertex(x0: float, x1: float, x2: float, y0: float, y1: float, y2: float) ->
     return y0 + (d1 - curvature * (x1 - x0)) * offset + curvature * offset * offset
 
 
-def _parabola_peak(positions: FloatArray, magnitude: FloatArray, best: NDArray[np.intp]) -> FloatArray:
+def _parabola_peak(
+    positions: FloatArray, magnitude: FloatArray, best: NDArray[np.intp]
+) -> FloatArray:
     """Vertex of the parabola through the largest sample and its neighbours (interior only)."""
     rows = np.arange(best.size)
     interior = (best > 0) & (best < positions.size - 1)
@@ -345,7 +372,9 @@ class _SignedSum(Measure):
         weights = rates[rest] * size[rest]
 
         def excess(log_t: float) -> float:
-            return float(np.log(np.sum(weights * np.exp(-gaps * math.exp(log_t))))) - math.log(target)
+            return float(np.log(np.sum(weights * np.exp(-gaps * math.exp(log_t))))) - math.log(
+                target
+            )
 
         low = math.log(floor_s)
         if excess(low) < 0:
@@ -363,8 +392,15 @@ class ValueAt(_SignedSum):
 
     name = "value_at"
 
-    def __init__(self, facts: Facts, solution: ModalSolution, level: float,
-                 position_m: float, is_absolute: bool, start_deviation: float) -> None:
+    def __init__(
+        self,
+        facts: Facts,
+        solution: ModalSolution,
+        level: float,
+        position_m: float,
+        is_absolute: bool,
+        start_deviation: float,
+    ) -> None:
         super().__init__(facts, solution, level)
         self.position_m = position_m
         self.is_absolute = is_absolute
@@ -425,8 +461,9 @@ class RelativeStandardDeviation(Measure):
         return math.sqrt(variance) / denominator if denominator > 0 else math.inf
 
     def truncation(self, tail: TailBound) -> float:
-        spread = math.sqrt(tail.square + 2 * tail.sup * math.sqrt(self.facts.mean_square_start)
-                           + tail.sup**2)
+        spread = math.sqrt(
+            tail.square + 2 * tail.sup * math.sqrt(self.facts.mean_square_start) + tail.sup**2
+        )
         return spread / abs(self.facts.final_value)
 
     def settled_after_s(self, floor_s: float) -> float:
@@ -436,7 +473,10 @@ class RelativeStandardDeviation(Measure):
         solution = self.solution
 
         def excess(time_s: float) -> float:
-            return float(np.exp(-2.0 * time_s * solution.rates_per_s) @ solution.amplitudes**2) - target
+            return (
+                float(np.exp(-2.0 * time_s * solution.rates_per_s) @ solution.amplitudes**2)
+                - target
+            )
 
         if excess(floor_s) <= 0:
             return floor_s
@@ -448,12 +488,20 @@ class RelativeStandardDeviation(Measure):
 
 MEASURES: dict[str, type[Measure]] = {
     cls.name: cls
-    for cls in (MeanSquareDeviation, MaxDeviation, RelativeStandardDeviation, DirichletEnergy,
-                FractionEquilibrated, ValueAt)
+    for cls in (
+        MeanSquareDeviation,
+        MaxDeviation,
+        RelativeStandardDeviation,
+        DirichletEnergy,
+        FractionEquilibrated,
+        ValueAt,
+    )
 }
 
 
-def build_measure(case: Case, facts: Facts, solution: ModalSolution, criterion: Criterion) -> Measure:
+def build_measure(
+    case: Case, facts: Facts, solution: ModalSolution, criterion: Criterion
+) -> Measure:
     """The measure a criterion names, on one solution, with its level."""
     name = criterion.measure
     if name == "rsd" and facts.rsd_refusal:
@@ -469,14 +517,21 @@ def build_measure(case: Case, facts: Facts, solution: ModalSolution, criterion: 
         level = criterion.absolute_tolerance if is_absolute else criterion.tolerance
         assert level is not None
         start_value = float(case.start.values(np.array([criterion.position_m]))[0])
-        return ValueAt(facts, solution, level, criterion.position_m, is_absolute,
-                       abs(start_value - facts.final_value))
+        return ValueAt(
+            facts,
+            solution,
+            level,
+            criterion.position_m,
+            is_absolute,
+            abs(start_value - facts.final_value),
+        )
     assert criterion.tolerance is not None
     return MEASURES[name](facts, solution, criterion.tolerance)
 
 
-def defined_measures(case: Case, facts: Facts, solution: ModalSolution,
-                     criterion: Criterion | None) -> dict[str, Measure]:
+def defined_measures(
+    case: Case, facts: Facts, solution: ModalSolution, criterion: Criterion | None
+) -> dict[str, Measure]:
     """Every measure defined for the case (value_at only when the criterion names a point),
     each at the level its own criterion would use (1 where the criterion is another)."""
     out: dict[str, Measure] = {}

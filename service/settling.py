@@ -50,8 +50,15 @@ def _excess(measure: Measure, time_s: float) -> float:
 
 def _root(measure: Measure, lower_s: float, upper_s: float) -> float:
     try:
-        return float(optimize.brentq(lambda t: _excess(measure, t), lower_s, upper_s,
-                                     xtol=ROOT_RTOL * lower_s, rtol=ROOT_RTOL))
+        return float(
+            optimize.brentq(
+                lambda t: _excess(measure, t),
+                lower_s,
+                upper_s,
+                xtol=ROOT_RTOL * lower_s,
+                rtol=ROOT_RTOL,
+            )
+        )
     except (ValueError, RuntimeError) as exc:
         raise NumericalFailure(f"the settling root-find failed: {exc}") from exc
 
@@ -112,12 +119,14 @@ def _last_crossing(measure: Measure, floor_s: float) -> Crossing:
         upper_times.extend(times.tolist())
         upper_values.extend(values.tolist())
         current = float(times[-1])
-    return Crossing(time_s=floor_s, definition="last_crossing", hit_floor=True,
-                    holds_throughout=True)
+    return Crossing(
+        time_s=floor_s, definition="last_crossing", hit_floor=True, holds_throughout=True
+    )
 
 
-def _check_tangents(measure: Measure, answer_s: float, times: list[float],
-                    values: list[float]) -> Crossing:
+def _check_tangents(
+    measure: Measure, answer_s: float, times: list[float], values: list[float]
+) -> Crossing:
     """Refine local maxima of the scanned samples that approach the level."""
     t = np.asarray(times)
     v = np.asarray(values)
@@ -131,7 +140,8 @@ def _check_tangents(measure: Measure, answer_s: float, times: list[float],
             continue
         found = optimize.minimize_scalar(
             lambda log_t: -measure.value(math.exp(log_t)),
-            bounds=(math.log(t[i - 1]), math.log(t[i + 1])), method="bounded",
+            bounds=(math.log(t[i - 1]), math.log(t[i + 1])),
+            method="bounded",
             options={"xatol": 1e-10},
         )
         peak_time = math.exp(float(found.x))

@@ -25,7 +25,15 @@ from service.measures import (
 from service.physics import Case, Geometry, SurfaceKind
 from service.settling import find_settling_time
 
-__all__ = ["CAUTIONS", "WARNING_CODES", "HistoryAnswer", "SettlingAnswer", "Snapshot", "Solver", "format_time"]
+__all__ = [
+    "CAUTIONS",
+    "WARNING_CODES",
+    "HistoryAnswer",
+    "SettlingAnswer",
+    "Snapshot",
+    "Solver",
+    "format_time",
+]
 
 FloatArray = NDArray[np.float64]
 
@@ -143,7 +151,9 @@ class Solver:
         try:
             engine.check(case)
         except NotApplicable as exc:
-            raise exc.at("/engine") if not exc.pointer else exc
+            if not exc.pointer:
+                exc.at("/engine")
+            raise
         return engine
 
     def settle(self, case: Case) -> SettlingAnswer:
@@ -184,23 +194,29 @@ class Solver:
             # met throughout the search, and either at the start too or so far below its level
             # at the earliest time searched that it is met from t → 0 (a point on a held surface)
             if crossing.holds_throughout and (
-                    measure.initial_value() <= measure.level
-                    or measure.value(crossing.time_s) <= IMMEDIATE_FRACTION * measure.level):
+                measure.initial_value() <= measure.level
+                or measure.value(crossing.time_s) <= IMMEDIATE_FRACTION * measure.level
+            ):
                 time_s = 0.0
                 warnings.append(("settles_immediately", WARNING_CODES["settles_immediately"]))
             else:
-                warnings.append(("settles_before_resolved_time",
-                                 WARNING_CODES["settles_before_resolved_time"]))
+                warnings.append(
+                    ("settles_before_resolved_time", WARNING_CODES["settles_before_resolved_time"])
+                )
         if crossing.near_tangent:
             warnings.append(("near_tangent", WARNING_CODES["near_tangent"]))
         biot = case.surface.biot if case.surface.kind is SurfaceKind.CONVECTIVE else None
         if biot is not None:
             classical = biot * case.body.volume_to_area_m / case.body.characteristic_length_m
             if classical < LUMPED_BIOT:
-                warnings.append(("lumped_would_do",
-                                 f"the classical Biot number on V/A is {classical:.3g}, below "
-                                 f"{LUMPED_BIOT}: a lumped (uniform-body) model would give "
-                                 f"nearly the same time"))
+                warnings.append(
+                    (
+                        "lumped_would_do",
+                        f"the classical Biot number on V/A is {classical:.3g}, below "
+                        f"{LUMPED_BIOT}: a lumped (uniform-body) model would give "
+                        f"nearly the same time",
+                    )
+                )
 
         measured = defined_measures(case, facts, run.solution, criterion)
         measured[criterion.measure] = measure
@@ -229,15 +245,19 @@ class Solver:
             cautions=list(CAUTIONS),
         )
 
-    def history(self, case: Case, times_s: list[float] | None, time_count: int | None,
-                snapshot_count: int) -> HistoryAnswer:
+    def history(
+        self, case: Case, times_s: list[float] | None, time_count: int | None, snapshot_count: int
+    ) -> HistoryAnswer:
         """Every defined measure at the given times (or log-spread around the settling time)."""
         if times_s is None:
             assert time_count is not None
             settled = self.settle(case).time_s
             if settled <= 0:
-                raise InvalidInput("the criterion is met at once, so there is no span to spread "
-                                   "times over; give 'times' instead", "/time_count")
+                raise InvalidInput(
+                    "the criterion is met at once, so there is no span to spread "
+                    "times over; give 'times' instead",
+                    "/time_count",
+                )
             times = np.geomspace(1e-3 * settled, 2.0 * settled, time_count)
         else:
             times = np.asarray(times_s, dtype=float)
@@ -247,12 +267,20 @@ class Solver:
         measured = defined_measures(case, facts, solution, case.criterion)
         series: dict[str, list[float | None]] = {}
         for name, each in measured.items():
-            reported = [each.reported(float(t)) for t in times] if name == "fraction_equilibrated" \
+            reported = (
+                [each.reported(float(t)) for t in times]
+                if name == "fraction_equilibrated"
                 else each.values(times).tolist()
+            )
             series[name] = [_finite(float(v)) for v in reported]
         positions = np.linspace(0.0, case.body.extent_m, SNAPSHOT_POINTS)
-        chosen = np.unique(np.linspace(0, times.size - 1, min(snapshot_count, times.size)).round()
-                           .astype(int)) if snapshot_count > 0 else np.array([], dtype=int)
+        chosen = (
+            np.unique(
+                np.linspace(0, times.size - 1, min(snapshot_count, times.size)).round().astype(int)
+            )
+            if snapshot_count > 0
+            else np.array([], dtype=int)
+        )
         profiles = solution.values_at(positions, times[chosen]) + facts.final_value
         snapshots = [
             Snapshot(float(times[i]), positions.tolist(), profile.tolist())

@@ -29,8 +29,12 @@ _MAX_POWER = 12
 # Converters kept per Units object; unit texts beyond this are re-derived (about 0.3 ms each).
 _CACHE_SIZE = 512
 
-_NUMBER = re.compile(r"^\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d{1,3})?)(?:\s+|(?=[^\d.eE+-])|$)(.*)$")
-_TOKEN = re.compile(r"\s*(?:(?P<name>[A-Za-z_°µμΩ]+)|(?P<num>\d+)|(?P<pow>\*\*|\^)|(?P<op>[*/])|(?P<neg>-)|(?P<lp>\()|(?P<rp>\)))")
+_NUMBER = re.compile(
+    r"^\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d{1,3})?)(?:\s+|(?=[^\d.eE+-])|$)(.*)$"
+)
+_TOKEN = re.compile(
+    r"\s*(?:(?P<name>[A-Za-z_°µμΩ]+)|(?P<num>\d+)|(?P<pow>\*\*|\^)|(?P<op>[*/])|(?P<neg>-)|(?P<lp>\()|(?P<rp>\)))"
+)
 
 
 @dataclass(frozen=True)
@@ -85,9 +89,7 @@ class _Grammar:
 
     def _factor(self, depth: int) -> None:
         kind, value = self._peek()
-        if kind == "name":
-            self.index += 1
-        elif kind == "num" and value == "1":
+        if kind == "name" or (kind == "num" and value == "1"):
             self.index += 1
         elif kind == "lp":
             if depth >= _MAX_NESTING:
@@ -140,8 +142,11 @@ class Units:
         """
         expected = DIMENSIONS[dimension]
         if isinstance(raw, bool):
-            raise UnitError(f"expected {expected.label}, a number in {expected.si_unit} or a "
-                            f"string such as '2 {expected.si_unit}'", pointer)
+            raise UnitError(
+                f"expected {expected.label}, a number in {expected.si_unit} or a "
+                f"string such as '2 {expected.si_unit}'",
+                pointer,
+            )
         if isinstance(raw, int | float):
             value = float(raw)
         else:

@@ -28,7 +28,9 @@ def make_case(
         body=Body(geometry, extent),
         medium=Medium(diffusivity),
         start=start if start is not None else Start.uniform(extent, start_value),
-        surface=Surface(kind, value=surface_value, biot=biot if kind is SurfaceKind.CONVECTIVE else 0.0),
+        surface=Surface(
+            kind, value=surface_value, biot=biot if kind is SurfaceKind.CONVECTIVE else 0.0
+        ),
         criterion=criterion,
         accuracy=accuracy,
         engine=engine,
@@ -40,4 +42,6 @@ def off_centre_band(geometry: Geometry, length_m: float = 1.0) -> Start:
     slab's antisymmetric modes are excited)."""
     extent = 2 * length_m if geometry is Geometry.SLAB else length_m
     low, high = 0.15 * extent, 0.40 * extent
-    return Start.from_pieces([(0.0, low, 0.2, 0.2), (low, high, 1.0, 1.0), (high, extent, 0.2, 0.2)])
+    return Start.from_pieces(
+        [(0.0, low, 0.2, 0.2), (low, high, 1.0, 1.0), (high, extent, 0.2, 0.2)]
+    )

@@ -40,30 +40,52 @@ CRANK_HALF_TIMES: dict[str, Reference] = {
     # l = FULL thickness of the sheet; Crank's chapter 4 writes the sheet as −l < x < l, so
     # with the half-thickness the number is 4 × 0.04918.
     "slab_full_thickness": Reference(
-        0.049, 3, "Crank, The Mathematics of Diffusion, 2nd ed. (1975), chapter on measuring "
+        0.049,
+        3,
+        "Crank, The Mathematics of Diffusion, 2nd ed. (1975), chapter on measuring "
         "diffusion coefficients (sorption half-time D·t½/l² = 0.049, l the sheet thickness)",
-        "memory"),
+        "memory",
+    ),
     "sphere_radius": Reference(
-        0.03055, 5, "Crank (1975) eq. 6.20, F = 1 − (6/π²)Σ n⁻² exp(−Dn²π²t/a²); half-time on a²",
-        "seen (series quoted); half-time recomputed"),
+        0.03055,
+        5,
+        "Crank (1975) eq. 6.20, F = 1 − (6/π²)Σ n⁻² exp(−Dn²π²t/a²); half-time on a²",
+        "seen (series quoted); half-time recomputed",
+    ),
     "cylinder_radius": Reference(
-        0.06306, 5, "Crank (1975) chapter 5, uptake by a long cylinder (roots of J0); half-time "
-        "on a²", "memory"),
+        0.06306,
+        5,
+        "Crank (1975) chapter 5, uptake by a long cylinder (roots of J0); half-time on a²",
+        "memory",
+    ),
 }
 
 # Fraction taken up, F, at D·t/a² = 0.1 (a = half-thickness / radius / radius).
 CRANK_F_AT_FOURIER_0_1: dict[str, Reference] = {
-    "slab": Reference(0.35682, 5, "Crank (1975) eq. 4.18 (sheet series), computed at Dt/a² = 0.1",
-                      "series seen; value computed from it"),
-    "cylinder": Reference(0.60582, 5, "Crank (1975) eq. 5.23 (cylinder series), computed at "
-                          "Dt/a² = 0.1", "memory (equation number); value computed"),
-    "sphere": Reference(0.77048, 5, "Crank (1975) eq. 6.20 (sphere series), computed at "
-                        "Dt/a² = 0.1", "series seen; value computed"),
+    "slab": Reference(
+        0.35682,
+        5,
+        "Crank (1975) eq. 4.18 (sheet series), computed at Dt/a² = 0.1",
+        "series seen; value computed from it",
+    ),
+    "cylinder": Reference(
+        0.60582,
+        5,
+        "Crank (1975) eq. 5.23 (cylinder series), computed at Dt/a² = 0.1",
+        "memory (equation number); value computed",
+    ),
+    "sphere": Reference(
+        0.77048,
+        5,
+        "Crank (1975) eq. 6.20 (sphere series), computed at Dt/a² = 0.1",
+        "series seen; value computed",
+    ),
 }
 
 ONE_TERM_SOURCE = (
     "Çengel, Heat and Mass Transfer, Table 4-2 (seen in a scan); the same values in Incropera "
-    "et al., Fundamentals of Heat and Mass Transfer, Table 5.1 (memory)")
+    "et al., Fundamentals of Heat and Mass Transfer, Table 5.1 (memory)"
+)
 # Bi → (wall ζ1, wall C1, cylinder ζ1, cylinder C1, sphere ζ1, sphere C1); four printed digits.
 # Two printed values are one unit off the correctly rounded root (cylinder ζ1 at Bi = 2 is
 # 1.59945, wall C1 at Bi = 5 is 1.24025); the one-digit tolerance covers them.
@@ -77,8 +99,9 @@ ONE_TERM: dict[float, tuple[float, float, float, float, float, float]] = {
     10.0: (1.4289, 1.2620, 2.1795, 1.5677, 2.8363, 1.9249),
 }
 
-WATTS_SOURCE = ("R. G. Watts, Essentials of Applied Mathematics for Scientists and Engineers "
-                "(2007), App. A")
+WATTS_SOURCE = (
+    "R. G. Watts, Essentials of Applied Mathematics for Scientists and Engineers (2007), App. A"
+)
 # Roots of ζ tan ζ = C (Table A.1, seen): the slab's symmetric family with Bi = C.
 WATTS_SYMMETRIC_ROOTS: dict[float, tuple[float, ...]] = {
     1.0: (0.8603, 3.4256, 6.4373, 9.5293),
@@ -95,8 +118,9 @@ WATTS_ANTISYMMETRIC_ROOTS: dict[float, tuple[float, ...]] = {
 # First non-zero wavenumber × length of sealed bodies: slab π/thickness (so π/2 on the
 # half-thickness); cylinder first zero of J1; sphere first root of tan x = x.
 NO_FLUX_FIRST_WAVENUMBERS: dict[str, Reference] = {
-    "slab_on_thickness": Reference(3.1416, 4, "π/thickness (cosine mode of a sealed sheet)",
-                                   "common practice"),
+    "slab_on_thickness": Reference(
+        3.1416, 4, "π/thickness (cosine mode of a sealed sheet)", "common practice"
+    ),
     "cylinder": Reference(3.8317, 4, "first zero of J1 (tables of Bessel zeros)", "seen"),
     "sphere": Reference(4.4934, 4, "first positive root of tan x = x (OEIS A115365)", "seen"),
 }

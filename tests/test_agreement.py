@@ -22,8 +22,13 @@ def _starts(geometry: Geometry) -> dict[str, Start]:
     extent = 2.0 if geometry is Geometry.SLAB else 1.0
     return {
         "band": off_centre_band(geometry),
-        "profile": Start.from_pieces([(0.0, 0.2 * extent, 0.3, 0.3), (0.2 * extent, 0.7 * extent, 0.3, 1.4),
-                                      (0.7 * extent, extent, 1.4, 1.4)]),
+        "profile": Start.from_pieces(
+            [
+                (0.0, 0.2 * extent, 0.3, 0.3),
+                (0.2 * extent, 0.7 * extent, 0.3, 1.4),
+                (0.7 * extent, extent, 1.4, 1.4),
+            ]
+        ),
     }
 
 
@@ -31,13 +36,26 @@ def _starts(geometry: Geometry) -> dict[str, Start]:
 @pytest.mark.parametrize("measure", sorted(CRITERIA))
 @pytest.mark.parametrize("kind", KINDS)
 @pytest.mark.parametrize("geometry", SHAPES)
-def test_engines_agree(solver, geometry: Geometry, kind: SurfaceKind, measure: str,  # type: ignore[no-untyped-def]
-                       start_name: str) -> None:
+def test_engines_agree(
+    solver,
+    geometry: Geometry,
+    kind: SurfaceKind,
+    measure: str,  # type: ignore[no-untyped-def]
+    start_name: str,
+) -> None:
     start = _starts(geometry)[start_name]
     times = {}
     for engine in ("series", "finite_volume"):
-        case = make_case(geometry, kind, start=start, criterion=CRITERIA[measure],
-                         surface_value=0.5, biot=2.5, engine=engine, accuracy=1e-4)
+        case = make_case(
+            geometry,
+            kind,
+            start=start,
+            criterion=CRITERIA[measure],
+            surface_value=0.5,
+            biot=2.5,
+            engine=engine,
+            accuracy=1e-4,
+        )
         try:
             answer = solver.settle(case)
         except InvalidInput as exc:

@@ -48,8 +48,13 @@ def test_dirichlet_energy_equals_gradient_quadrature(geometry: Geometry, kind: S
 def test_dirichlet_energy_rate_is_minus_two_over_d_mean_square_rate(geometry: Geometry) -> None:
     # dE/dt = −(2/D)⟨u_t²⟩, checked by quadrature of finite differences in space and time.
     diffusivity = 0.4
-    case = make_case(geometry, SurfaceKind.CONVECTIVE, start=off_centre_band(geometry), biot=0.8,
-                     diffusivity=diffusivity)
+    case = make_case(
+        geometry,
+        SurfaceKind.CONVECTIVE,
+        start=off_centre_band(geometry),
+        biot=0.8,
+        diffusivity=diffusivity,
+    )
     solution = SeriesEngine().solution(case, 0.01)
     body = case.body
     x = np.linspace(0.0, body.extent_m, _GRID)
@@ -61,17 +66,23 @@ def test_dirichlet_energy_rate_is_minus_two_over_d_mean_square_rate(geometry: Ge
         u = solution.values_at(x, np.array([time - step, time + step]))
         u_t = (u[1] - u[0]) / (2 * step)
         mean_u_t_sq = np.trapezoid(weight * u_t**2, x) / np.trapezoid(weight, x)
-        assert (after - before) / (2 * step) == pytest.approx(-2 / diffusivity * mean_u_t_sq, rel=1e-4)
+        assert (after - before) / (2 * step) == pytest.approx(
+            -2 / diffusivity * mean_u_t_sq, rel=1e-4
+        )
 
 
 @pytest.mark.parametrize("engine", ["series", "finite_volume"])
 @pytest.mark.parametrize("geometry", SHAPES)
 @pytest.mark.parametrize("kind", KINDS)
-def test_mean_square_and_energy_never_increase(engine: str, geometry: Geometry,
-                                               kind: SurfaceKind) -> None:
+def test_mean_square_and_energy_never_increase(
+    engine: str, geometry: Geometry, kind: SurfaceKind
+) -> None:
     case = make_case(geometry, kind, start=off_centre_band(geometry), surface_value=0.7, biot=0.9)
-    solution = (SeriesEngine().solution(case, 1e-3) if engine == "series" else
-                FiniteVolumeEngine().solution_on(case, build_mesh(case, 64, None)))
+    solution = (
+        SeriesEngine().solution(case, 1e-3)
+        if engine == "series"
+        else FiniteVolumeEngine().solution_on(case, build_mesh(case, 64, None))
+    )
     facts = Facts.of(case)
     times = np.geomspace(1e-3, 5.0, 400)
     square = build_measure(case, facts, solution, Criterion("mean_square_deviation", tolerance=0.1))

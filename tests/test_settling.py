@@ -14,36 +14,67 @@ from tests.factories import KINDS, SHAPES, make_case, off_centre_band
 
 @pytest.mark.parametrize("geometry", SHAPES)
 @pytest.mark.parametrize("kind", KINDS)
-def test_settling_time_scales_with_length_squared_over_diffusivity(solver, geometry: Geometry,  # type: ignore[no-untyped-def]
-                                                                   kind: SurfaceKind) -> None:
+def test_settling_time_scales_with_length_squared_over_diffusivity(
+    solver,
+    geometry: Geometry,  # type: ignore[no-untyped-def]
+    kind: SurfaceKind,
+) -> None:
     criterion = Criterion("max_deviation", tolerance=0.05)
-    base = solver.settle(make_case(geometry, kind, start=off_centre_band(geometry),
-                                   criterion=criterion, surface_value=0.4, biot=3.0))
+    base = solver.settle(
+        make_case(
+            geometry,
+            kind,
+            start=off_centre_band(geometry),
+            criterion=criterion,
+            surface_value=0.4,
+            biot=3.0,
+        )
+    )
     for length, diffusivity in ((3e-3, 2e-9), (0.25, 7e-6)):
         extent_scale = length
         start = off_centre_band(geometry, length_m=extent_scale)
-        scaled = solver.settle(make_case(geometry, kind, start=start, criterion=criterion,
-                                         length_m=length, diffusivity=diffusivity,
-                                         surface_value=0.4, biot=3.0))
+        scaled = solver.settle(
+            make_case(
+                geometry,
+                kind,
+                start=start,
+                criterion=criterion,
+                length_m=length,
+                diffusivity=diffusivity,
+                surface_value=0.4,
+                biot=3.0,
+            )
+        )
         assert scaled.time_s == pytest.approx(base.time_s * length**2 / diffusivity, rel=1e-9)
         assert scaled.fourier_number == pytest.approx(base.fourier_number, rel=1e-9)
 
 
-@pytest.mark.parametrize("measure", ["mean_square_deviation", "max_deviation", "rsd",
-                                     "dirichlet_energy", "value_at"])
+@pytest.mark.parametrize(
+    "measure", ["mean_square_deviation", "max_deviation", "rsd", "dirichlet_energy", "value_at"]
+)
 def test_settling_time_is_monotone_in_tolerance(solver, measure: str) -> None:  # type: ignore[no-untyped-def]
     times = []
     for tolerance in (0.3, 0.1, 0.03, 0.01, 0.003, 1e-4):
         criterion = Criterion(measure, tolerance=tolerance, position_m=0.2)
-        case = make_case(Geometry.SPHERE, SurfaceKind.CONVECTIVE, criterion=criterion, biot=4.0,
-                         start=off_centre_band(Geometry.SPHERE), surface_value=0.5)
+        case = make_case(
+            Geometry.SPHERE,
+            SurfaceKind.CONVECTIVE,
+            criterion=criterion,
+            biot=4.0,
+            start=off_centre_band(Geometry.SPHERE),
+            surface_value=0.5,
+        )
         times.append(solver.settle(case).time_s)
     assert np.all(np.diff(times) > 0)
 
 
 def test_settling_fraction_is_monotone_in_fraction(solver) -> None:  # type: ignore[no-untyped-def]
-    times = [solver.settle(make_case(Geometry.CYLINDER, criterion=Criterion(
-        "fraction_equilibrated", fraction=f))).time_s for f in (0.5, 0.9, 0.99, 0.999)]
+    times = [
+        solver.settle(
+            make_case(Geometry.CYLINDER, criterion=Criterion("fraction_equilibrated", fraction=f))
+        ).time_s
+        for f in (0.5, 0.9, 0.99, 0.999)
+    ]
     assert np.all(np.diff(times) > 0)
 
 
@@ -52,8 +83,9 @@ def _rise_then_fall_case():  # type: ignore[no-untyped-def]
     outside the band, so its deviation starts at zero, rises as the band spreads, then falls."""
     start = Start.from_pieces([(0.0, 0.2, 0.0, 0.0), (0.2, 0.5, 1.0, 1.0), (0.5, 2.0, 0.0, 0.0)])
     criterion = Criterion("value_at", position_m=1.2, absolute_tolerance=0.02)
-    return make_case(Geometry.SLAB, SurfaceKind.FIXED_VALUE, start=start, criterion=criterion,
-                     surface_value=0.0)
+    return make_case(
+        Geometry.SLAB, SurfaceKind.FIXED_VALUE, start=start, criterion=criterion, surface_value=0.0
+    )
 
 
 def test_settling_uses_last_crossing_when_a_point_rises_before_it_falls(solver) -> None:  # type: ignore[no-untyped-def]
@@ -69,14 +101,18 @@ def test_settling_uses_last_crossing_when_a_point_rises_before_it_falls(solver) 
     values = np.abs(solution.values_at(np.array([1.2]), times)[:, 0])
     assert np.any(values[times < answer.time_s] > 0.02)
     assert np.all(values[times > answer.time_s * (1 + 1e-9)] <= 0.02 + 1e-12)
-    assert np.abs(solution.values_at(np.array([1.2]), np.array([answer.time_s]))[0, 0]) == \
-        pytest.approx(0.02, rel=1e-8)
+    assert np.abs(
+        solution.values_at(np.array([1.2]), np.array([answer.time_s]))[0, 0]
+    ) == pytest.approx(0.02, rel=1e-8)
 
 
 def test_settling_point_on_held_surface_is_met_at_once(solver) -> None:  # type: ignore[no-untyped-def]
     # the deviation at a held surface is zero for every t > 0 (every mode vanishes there)
-    case = make_case(Geometry.SPHERE, SurfaceKind.FIXED_VALUE,
-                     criterion=Criterion("value_at", tolerance=0.01, position_m=1.0))
+    case = make_case(
+        Geometry.SPHERE,
+        SurfaceKind.FIXED_VALUE,
+        criterion=Criterion("value_at", tolerance=0.01, position_m=1.0),
+    )
     answer = solver.settle(case)
     assert answer.time_s == 0.0
     assert [code for code, _ in answer.warnings] == ["settles_immediately"]
@@ -86,17 +122,28 @@ def test_settling_point_at_node_of_antisymmetric_start_settles_at_once(solver) -
     # A start odd about the slab's centre excites only antisymmetric modes; the centre stays
     # at its final value for all time.
     start = Start.from_pieces([(0.0, 1.0, 1.0, 1.0), (1.0, 2.0, -1.0, -1.0)])
-    answer = solver.settle(make_case(Geometry.SLAB, SurfaceKind.NO_FLUX, start=start,
-                                     criterion=Criterion("value_at", tolerance=1e-3,
-                                                         position_m=1.0)))
+    answer = solver.settle(
+        make_case(
+            Geometry.SLAB,
+            SurfaceKind.NO_FLUX,
+            start=start,
+            criterion=Criterion("value_at", tolerance=1e-3, position_m=1.0),
+        )
+    )
     assert answer.time_s == 0.0
 
 
 def test_settling_centred_band_excites_no_antisymmetric_mode(solver) -> None:  # type: ignore[no-untyped-def]
     # sealed slab of half-thickness 1: slowest mode π/2 (antisymmetric), next π (symmetric)
     centred = Start.from_pieces([(0.0, 0.7, 0.0, 0.0), (0.7, 1.3, 1.0, 1.0), (1.3, 2.0, 0.0, 0.0)])
-    answer = solver.settle(make_case(Geometry.SLAB, SurfaceKind.NO_FLUX, start=centred,
-                                     criterion=Criterion("mean_square_deviation", tolerance=0.01)))
+    answer = solver.settle(
+        make_case(
+            Geometry.SLAB,
+            SurfaceKind.NO_FLUX,
+            start=centred,
+            criterion=Criterion("mean_square_deviation", tolerance=0.01),
+        )
+    )
     assert answer.slowest_rate_per_s == pytest.approx((np.pi / 2) ** 2, rel=1e-12)
     assert answer.slowest_excited_rate_per_s == pytest.approx(np.pi**2, rel=1e-12)
 
@@ -112,8 +159,15 @@ def test_measure_monotone_region_holds_after_bound(solver) -> None:  # type: ign
     assert np.all(np.diff(values) <= 1e-15)
 
 
-@pytest.mark.parametrize(("seconds", "text"), [(42.0, "42.0 s"), (5499.2, "91.7 min"),
-                                              (3 * 3600, "3.00 h"), (86400 * 12.34, "12.3 d"),
-                                              (0.00123, "0.00123 s")])
+@pytest.mark.parametrize(
+    ("seconds", "text"),
+    [
+        (42.0, "42.0 s"),
+        (5499.2, "91.7 min"),
+        (3 * 3600, "3.00 h"),
+        (86400 * 12.34, "12.3 d"),
+        (0.00123, "0.00123 s"),
+    ],
+)
 def test_format_time_gives_three_significant_figures(seconds: float, text: str) -> None:
     assert format_time(seconds) == text

@@ -42,11 +42,14 @@ class Translation:
     positions_m: dict[str, float] = field(default_factory=dict)
 
 
-def _in_range(value: float, bounds: tuple[float, float], what: str, unit: str, pointer: str) -> float:
+def _in_range(
+    value: float, bounds: tuple[float, float], what: str, unit: str, pointer: str
+) -> float:
     low, high = bounds
     if not low <= value <= high:
-        raise InvalidInput(f"{what} must lie between {low:g} and {high:g} {unit}; got {value:g} {unit}",
-                           pointer)
+        raise InvalidInput(
+            f"{what} must lie between {low:g} and {high:g} {unit}; got {value:g} {unit}", pointer
+        )
     return value
 
 
@@ -83,16 +86,20 @@ class _Translator:
         }
         if isinstance(raw, rq.PositionSpec):
             if raw.face == "second" and not is_slab:
-                raise InvalidInput("'face' applies to a slab only; a cylinder or sphere has one "
-                                   "surface", pointer + "/face")
+                raise InvalidInput(
+                    "'face' applies to a slab only; a cylinder or sphere has one surface",
+                    pointer + "/face",
+                )
             if raw.at is not None:
                 value = words[raw.at](raw.face)
             else:
                 assert raw.depth is not None
                 depth = self.units.to_si(raw.depth, "length", pointer + "/depth")
                 if not 0 <= depth <= extent:
-                    raise InvalidInput(f"the depth {depth:g} m is outside the body (0 to {extent:g} m)",
-                                       pointer + "/depth")
+                    raise InvalidInput(
+                        f"the depth {depth:g} m is outside the body (0 to {extent:g} m)",
+                        pointer + "/depth",
+                    )
                 from_first = raw.face == "first" if is_slab else False
                 value = depth if from_first else extent - depth
         elif isinstance(raw, str) and raw.strip() in words:
@@ -101,8 +108,11 @@ class _Translator:
             value = self.units.to_si(raw, "length", pointer)
             if not 0 <= value <= extent:
                 axis = "from the first face" if is_slab else "from the centre"
-                raise InvalidInput(f"the position {value:g} m ({axis}) is outside the body, which "
-                                   f"spans 0 to {extent:g} m", pointer)
+                raise InvalidInput(
+                    f"the position {value:g} m ({axis}) is outside the body, which "
+                    f"spans 0 to {extent:g} m",
+                    pointer,
+                )
         self.positions[pointer] = value
         return value
 
@@ -114,25 +124,38 @@ class _Translator:
             lower = self.position(request.between[0], body, "/initial/between/0")
             upper = self.position(request.between[1], body, "/initial/between/1")
             if not lower < upper:
-                raise InvalidInput("'between' takes two positions in increasing order",
-                                   "/initial/between")
+                raise InvalidInput(
+                    "'between' takes two positions in increasing order", "/initial/between"
+                )
             out, inside = request.outside, request.inside
-            return Start.from_pieces([(0.0, lower, out, out), (lower, upper, inside, inside),
-                                      (upper, extent, out, out)])
-        points = [self.position(p, body, f"/initial/positions/{i}")
-                  for i, p in enumerate(request.positions)]
+            return Start.from_pieces(
+                [(0.0, lower, out, out), (lower, upper, inside, inside), (upper, extent, out, out)]
+            )
+        points = [
+            self.position(p, body, f"/initial/positions/{i}")
+            for i, p in enumerate(request.positions)
+        ]
         for i in range(1, len(points)):
             if not points[i] > points[i - 1]:
-                raise InvalidInput("profile positions must increase strictly (a jump is two "
-                                   "points close together)", f"/initial/positions/{i}")
+                raise InvalidInput(
+                    "profile positions must increase strictly (a jump is two "
+                    "points close together)",
+                    f"/initial/positions/{i}",
+                )
         values = request.values
         pieces = [(0.0, points[0], values[0], values[0])]
-        pieces += [(points[i], points[i + 1], values[i], values[i + 1]) for i in range(len(points) - 1)]
+        pieces += [
+            (points[i], points[i + 1], values[i], values[i + 1]) for i in range(len(points) - 1)
+        ]
         pieces.append((points[-1], extent, values[-1], values[-1]))
         return Start.from_pieces(pieces)
 
-    def surface(self, request: rq.NoFluxSurface | rq.FixedValueSurface | rq.ConvectiveSurface,
-                body: Body, diffusivity: float) -> Surface:
+    def surface(
+        self,
+        request: rq.NoFluxSurface | rq.FixedValueSurface | rq.ConvectiveSurface,
+        body: Body,
+        diffusivity: float,
+    ) -> Surface:
         if isinstance(request, rq.NoFluxSurface):
             return Surface(SurfaceKind.NO_FLUX)
         if isinstance(request, rq.FixedValueSurface):
@@ -145,15 +168,22 @@ class _Translator:
             coefficient = self.units.to_si(request.transfer_coefficient, "velocity", pointer)
             biot = coefficient * body.characteristic_length_m / diffusivity
             if not BIOT_RANGE[0] < biot <= BIOT_RANGE[1]:
-                raise InvalidInput(f"this transfer coefficient gives Bi = k_f·Lc/D = {biot:.3g}; "
-                                   f"accepted is 0 < Bi ≤ {BIOT_RANGE[1]:g}", pointer)
+                raise InvalidInput(
+                    f"this transfer coefficient gives Bi = k_f·Lc/D = {biot:.3g}; "
+                    f"accepted is 0 < Bi ≤ {BIOT_RANGE[1]:g}",
+                    pointer,
+                )
         return Surface(SurfaceKind.CONVECTIVE, value=request.ambient, biot=biot)
 
     def criterion(self, request: object, body: Body) -> Criterion:
         if isinstance(request, rq.ValueAtCriterion):
             position = self.position(request.position, body, "/criterion/position")
-            return Criterion("value_at", tolerance=request.tolerance, position_m=position,
-                             absolute_tolerance=request.absolute_tolerance)
+            return Criterion(
+                "value_at",
+                tolerance=request.tolerance,
+                position_m=position,
+                absolute_tolerance=request.absolute_tolerance,
+            )
         if isinstance(request, rq.FractionCriterion):
             return Criterion("fraction_equilibrated", fraction=request.fraction)
         return Criterion(request.measure, tolerance=request.tolerance)  # type: ignore[attr-defined]
@@ -165,11 +195,22 @@ def to_case(request: rq.CaseRequest, units: Units) -> Translation:
     body = translator.body(request.body)
     diffusivity = _in_range(
         units.to_si(request.medium.diffusivity, "diffusivity", "/medium/diffusivity"),
-        DIFFUSIVITY_RANGE_M2_PER_S, "the diffusivity", "m^2/s", "/medium/diffusivity")
+        DIFFUSIVITY_RANGE_M2_PER_S,
+        "the diffusivity",
+        "m^2/s",
+        "/medium/diffusivity",
+    )
     start = translator.start(request.initial, body)
     surface = translator.surface(request.surface, body, diffusivity)
     raw_criterion = getattr(request, "criterion", None)
     criterion = translator.criterion(raw_criterion, body) if raw_criterion is not None else None
-    case = Case(body=body, medium=Medium(diffusivity), start=start, surface=surface,
-                criterion=criterion, accuracy=request.accuracy, engine=request.engine)
+    case = Case(
+        body=body,
+        medium=Medium(diffusivity),
+        start=start,
+        surface=surface,
+        criterion=criterion,
+        accuracy=request.accuracy,
+        engine=request.engine,
+    )
     return Translation(case=case, positions_m=translator.positions)

@@ -15,8 +15,12 @@ __all__ = ["router"]
 router = APIRouter(tags=["estimates"])
 
 
-@router.post("/v1/settling-time", response_model=SettlingResponse, responses=PROBLEM_RESPONSES,
-             summary="Settling time of a slab, cylinder or sphere")
+@router.post(
+    "/v1/settling-time",
+    response_model=SettlingResponse,
+    responses=PROBLEM_RESPONSES,
+    summary="Settling time of a slab, cylinder or sphere",
+)
 def settling_time(request: SettlingRequest, solver: SolverDep, units: UnitsDep) -> SettlingResponse:
     """The earliest time after which the criterion holds for good, with every measure at that
     time, the method and its estimated error, and what was assumed."""
@@ -36,8 +40,12 @@ def settling_time(request: SettlingRequest, solver: SolverDep, units: UnitsDep) 
         slowest_excited_rate_per_s=rate,
         time_constant_s=1.0 / rate,
         measures=answer.measures,
-        method=Method(engine=answer.engine, path="eigen", resolution=answer.resolution,
-                      estimated_relative_error=answer.estimated_relative_error),
+        method=Method(
+            engine=answer.engine,
+            path="eigen",
+            resolution=answer.resolution,
+            estimated_relative_error=answer.estimated_relative_error,
+        ),
         biot=answer.biot,
         interpreted_positions_m=translation.positions_m,
         warnings=[WarningOut(code=code, message=message) for code, message in answer.warnings],

@@ -15,18 +15,25 @@ __all__ = ["router"]
 router = APIRouter(tags=["history"])
 
 
-@router.post("/v1/history", response_model=HistoryResponse, responses=PROBLEM_RESPONSES,
-             summary="Measures and profiles over time")
+@router.post(
+    "/v1/history",
+    response_model=HistoryResponse,
+    responses=PROBLEM_RESPONSES,
+    summary="Measures and profiles over time",
+)
 def history(request: HistoryRequest, solver: SolverDep, units: UnitsDep) -> HistoryResponse:
     """Every defined measure at each time, and profile snapshots across the body."""
     translation = to_case(request, units)
-    answer = solver.history(translation.case, request.times, request.time_count,
-                            request.snapshot_count)
+    answer = solver.history(
+        translation.case, request.times, request.time_count, request.snapshot_count
+    )
     return HistoryResponse(
         times_s=answer.times_s,
         measures=answer.measures,
-        snapshots=[SnapshotOut(time_s=s.time_s, positions_m=s.positions_m, values=s.values)
-                   for s in answer.snapshots],
+        snapshots=[
+            SnapshotOut(time_s=s.time_s, positions_m=s.positions_m, values=s.values)
+            for s in answer.snapshots
+        ],
         final_value=answer.final_value,
         method=Method(engine=answer.engine, path="eigen", resolution=answer.resolution),
         interpreted_positions_m=translation.positions_m,

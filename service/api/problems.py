@@ -24,8 +24,10 @@ _TYPE_BASE = "https://mixclock.invalid/problems/"
 
 PROBLEM_RESPONSES: dict[int | str, dict[str, Any]] = {
     400: {"model": Problem, "description": "Malformed JSON."},
-    422: {"model": Problem, "description": "Invalid content; `errors` names each field by JSON "
-          "Pointer."},
+    422: {
+        "model": Problem,
+        "description": "Invalid content; `errors` names each field by JSON Pointer.",
+    },
 }
 
 
@@ -55,8 +57,9 @@ def pointer_for(location: tuple[Any, ...], document: Any, is_missing: bool = Fal
     return "/" + "/".join(parts) if parts else ""
 
 
-def _problem(status: int, slug: str, title: str, detail: str,
-             errors: list[ProblemItem]) -> JSONResponse:
+def _problem(
+    status: int, slug: str, title: str, detail: str, errors: list[ProblemItem]
+) -> JSONResponse:
     body = Problem(type=_TYPE_BASE + slug, title=title, status=status, detail=detail, errors=errors)
     return JSONResponse(body.model_dump(), status_code=status, media_type=MEDIA_TYPE)
 
@@ -79,32 +82,47 @@ def _pointer_of(error: dict[str, Any], document: Any) -> str:
 async def _on_validation(request: Request, exc: RequestValidationError) -> JSONResponse:
     errors = list(exc.errors())
     if any(error.get("type") == "json_invalid" for error in errors):
-        detail = "; ".join(str(error.get("ctx", {}).get("error", "")) or _message(error)
-                           for error in errors)
-        return _problem(400, "malformed-json", "Malformed JSON",
-                        f"the request body is not valid JSON: {detail}",
-                        [ProblemItem(pointer="", detail=detail)])
+        detail = "; ".join(
+            str(error.get("ctx", {}).get("error", "")) or _message(error) for error in errors
+        )
+        return _problem(
+            400,
+            "malformed-json",
+            "Malformed JSON",
+            f"the request body is not valid JSON: {detail}",
+            [ProblemItem(pointer="", detail=detail)],
+        )
     document = getattr(exc, "body", None)
-    items = [ProblemItem(pointer=_pointer_of(error, document), detail=_message(error))
-             for error in errors]
+    items = [
+        ProblemItem(pointer=_pointer_of(error, document), detail=_message(error))
+        for error in errors
+    ]
     summary = "; ".join(f"{item.pointer or '/'}: {item.detail}" for item in items[:3])
     return _problem(422, "invalid-request", "Invalid request", summary, items)
 
 
 async def _on_mixclock(request: Request, exc: Exception) -> JSONResponse:
     assert isinstance(exc, MixclockError)
-    return _problem(422, exc.slug, exc.title, exc.detail,
-                    [ProblemItem(pointer=exc.pointer, detail=exc.detail)])
+    return _problem(
+        422, exc.slug, exc.title, exc.detail, [ProblemItem(pointer=exc.pointer, detail=exc.detail)]
+    )
 
 
 async def _on_http(request: Request, exc: Exception) -> JSONResponse:
     assert isinstance(exc, HTTPException)
-    return _problem(exc.status_code, f"http-{exc.status_code}", str(exc.detail), str(exc.detail), [])
+    return _problem(
+        exc.status_code, f"http-{exc.status_code}", str(exc.detail), str(exc.detail), []
+    )
 
 
 async def _on_unexpected(request: Request, exc: Exception) -> JSONResponse:
-    return _problem(500, "internal", "Internal error",
-                    "the service failed unexpectedly; please report the request that caused it", [])
+    return _problem(
+        500,
+        "internal",
+        "Internal error",
+        "the service failed unexpectedly; please report the request that caused it",
+        [],
+    )
 
 
 def install_problem_handlers(app: FastAPI) -> None:

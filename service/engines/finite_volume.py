@@ -25,6 +25,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Callable
+from itertools import pairwise
 
 import numpy as np
 from numpy.typing import NDArray
@@ -80,7 +81,7 @@ def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> Floa
     h_min = min(h_max, _GRADING_CELLS * (diffusion_length_m or 0.0) / cells) if grade else h_max
     feature_array = np.asarray(features, dtype=float)
     faces = [np.zeros(1)]
-    for lower, upper in zip(required[:-1], required[1:], strict=True):
+    for lower, upper in pairwise(required.tolist()):
         x = np.linspace(lower, upper, _GRADING_SAMPLES)
         if grade:
             distance = np.min(np.abs(x[:, None] - feature_array[None, :]), axis=1)
@@ -166,8 +167,12 @@ class FiniteVolumeEngine:
 
         def basis_at(positions_m: FloatArray) -> FloatArray:
             return _interpolate(
-                np.asarray(positions_m, dtype=float), faces, centres, cell_modes,
-                inner_factor if is_slab else None, outer_factor,
+                np.asarray(positions_m, dtype=float),
+                faces,
+                centres,
+                cell_modes,
+                inner_factor if is_slab else None,
+                outer_factor,
             )
 
         return ModalSolution(
@@ -187,8 +192,9 @@ class FiniteVolumeEngine:
         )
 
     @staticmethod
-    def _surface_conductance(kind: SurfaceKind, diffusivity: float, area: float, gap: float,
-                             transfer: float) -> float:
+    def _surface_conductance(
+        kind: SurfaceKind, diffusivity: float, area: float, gap: float, transfer: float
+    ) -> float:
         conductances: dict[SurfaceKind, Callable[[], float]] = {
             SurfaceKind.NO_FLUX: lambda: 0.0,
             SurfaceKind.FIXED_VALUE: lambda: diffusivity * area / gap,
@@ -226,8 +232,9 @@ class FiniteVolumeEngine:
         fine_faces = build_mesh(case, cells, None)
         fine = self.solution_on(case, fine_faces)
         fine_crossing = search(fine, floor_s)
-        length = self._grading(case, cells,
-                               math.sqrt(diffusivity * max(fine_crossing.time_s, floor_s)))
+        length = self._grading(
+            case, cells, math.sqrt(diffusivity * max(fine_crossing.time_s, floor_s))
+        )
         warnings: tuple[tuple[str, str], ...] = ()
         for round_number in range(_MAX_ROUNDS):
             if round_number > 0 or length is not None:
@@ -238,14 +245,19 @@ class FiniteVolumeEngine:
             coarse_crossing = search(coarse, floor_s)
             coarsest = self.solution_on(case, fine_faces[::4])
             coarsest_crossing = search(coarsest, floor_s)
-            error = _grid_convergence_index(fine_crossing.time_s, coarse_crossing.time_s,
-                                            coarsest_crossing.time_s)
+            error = _grid_convergence_index(
+                fine_crossing.time_s, coarse_crossing.time_s, coarsest_crossing.time_s
+            )
             if error <= case.accuracy:
                 return EngineRun(fine, fine_crossing, error)
             if cells >= _MAX_CELLS:
-                warnings = (("resolution_capped",
-                             f"the finite-volume grid reached its cap of {_MAX_CELLS} cells before "
-                             f"the estimated error fell to the accuracy asked"),)
+                warnings = (
+                    (
+                        "resolution_capped",
+                        f"the finite-volume grid reached its cap of {_MAX_CELLS} cells before "
+                        f"the estimated error fell to the accuracy asked",
+                    ),
+                )
                 return EngineRun(fine, fine_crossing, error, warnings)
             growth = math.sqrt(error / (0.5 * case.accuracy)) * 1.1
             cells = min(_MAX_CELLS, max(cells + 8, math.ceil(cells * min(growth, 4.0))))
@@ -282,11 +294,13 @@ def _interpolate(
     """Mode values at points: linear between cell centres; toward a surface, linear to the
     surface value its condition implies; toward a radial centre, even in r."""
     nodes = np.r_[faces[0], centres, faces[-1]]
-    rows = np.vstack([
-        cell_modes[0] * (inner_factor if inner_factor is not None else 1.0),
-        cell_modes,
-        cell_modes[-1] * outer_factor,
-    ])
+    rows = np.vstack(
+        [
+            cell_modes[0] * (inner_factor if inner_factor is not None else 1.0),
+            cell_modes,
+            cell_modes[-1] * outer_factor,
+        ]
+    )
     if inner_factor is None and centres.size > 1:
         # u(r) ≈ u0 + (u1 − u0)(r² − c0²)/(c1² − c0²) near a symmetry centre
         c0, c1 = centres[0], centres[1]

@@ -105,7 +105,9 @@ class SeriesEngine:
 
     def __init__(self) -> None:
         self._lock = threading.Lock()
-        self._tables: OrderedDict[tuple[Geometry, SurfaceKind, float, int], _ModeTable] = OrderedDict()
+        self._tables: OrderedDict[tuple[Geometry, SurfaceKind, float, int], _ModeTable] = (
+            OrderedDict()
+        )
 
     def check(self, case: Case) -> None:
         """Every homogeneous body of this service has an exact expansion."""
@@ -130,8 +132,10 @@ class SeriesEngine:
 
     def slowest_wavenumber(self, case: Case) -> float:
         """The body's smallest non-zero ζ over all families (dimensionless, on Lc), cached."""
-        found = [self._modes(case, index, family, 2).zeta
-                 for index, family in enumerate(FAMILIES[case.body.geometry])]
+        found = [
+            self._modes(case, index, family, 2).zeta
+            for index, family in enumerate(FAMILIES[case.body.geometry])
+        ]
         candidates = np.concatenate(found)
         return float(np.min(candidates[candidates > 0]))
 
@@ -175,12 +179,14 @@ class SeriesEngine:
             norms.append(root_norm)
             owners.append(np.full(zeta.size, index))
             last = slice(zeta.size // 2, None)
-            tails.append((
-                float(zeta[-1]),
-                family.spacing,
-                float(np.max(np.abs(amplitude[last]) / root_norm[last])),
-                float(np.max(np.abs(amplitude[last]))),
-            ))
+            tails.append(
+                (
+                    float(zeta[-1]),
+                    family.spacing,
+                    float(np.max(np.abs(amplitude[last]) / root_norm[last])),
+                    float(np.max(np.abs(amplitude[last]))),
+                )
+            )
 
         zeta_all = np.concatenate(zetas)
         order = np.argsort(zeta_all, kind="stable")
@@ -204,7 +210,8 @@ class SeriesEngine:
                 sup += sup_amplitude * _tail_sum(zeta_last, spacing, fourier, 1)
                 square += amplitude**2 * _tail_sum(zeta_last, spacing, 2 * fourier, 1)
                 energy += (amplitude * zeta_last / length) ** 2 * _tail_sum(
-                    zeta_last, spacing, 2 * fourier, 3)
+                    zeta_last, spacing, 2 * fourier, 3
+                )
             return TailBound(sup=sup, square=square, energy=energy)
 
         samples = np.linspace(0.0, body.extent_m, _SAMPLES[body.geometry])
@@ -219,7 +226,8 @@ class SeriesEngine:
             sample_positions_m=samples,
             refine_max=True,
             valid_from_s=valid_from_s,
-            slowest_rate_per_s=diffusivity * (float(np.min(zeta_sorted[zeta_sorted > 0])) / length) ** 2,
+            slowest_rate_per_s=diffusivity
+            * (float(np.min(zeta_sorted[zeta_sorted > 0])) / length) ** 2,
             tail=tail,
         )
 

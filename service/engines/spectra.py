@@ -62,7 +62,7 @@ def _bisect(
 
 def _integer_roots(offset: float) -> Callable[[int, float], FloatArray]:
     def generate(count: int, biot: float) -> FloatArray:
-        return (np.arange(1, count + 1) + offset) * np.pi
+        return np.asarray((np.arange(1, count + 1) + offset) * np.pi, dtype=np.float64)
 
     return generate
 
@@ -85,6 +85,18 @@ def _bracketed(
         return _bisect(lambda zeta: equation(zeta, biot), lower, upper)
 
     return generate
+
+
+def _interval_brackets(
+    lower: float, upper: float
+) -> Callable[[int], tuple[FloatArray, FloatArray]]:
+    """Brackets ((n + lower)π, (n + upper)π) for n = 0, 1, ..."""
+
+    def brackets(count: int) -> tuple[FloatArray, FloatArray]:
+        n = np.arange(count, dtype=np.float64)
+        return (n + lower) * np.pi, (n + upper) * np.pi
+
+    return brackets
 
 
 def _cylinder_brackets(count: int) -> tuple[FloatArray, FloatArray]:
@@ -129,7 +141,9 @@ class ModeFamily:
         """Matrix [points, modes] of φ(ζ_n ξ_p)."""
         return self.phi(np.outer(xi, zeta))
 
-    def moments(self, zeta: FloatArray, a: FloatArray, b: FloatArray) -> tuple[FloatArray, FloatArray]:
+    def moments(
+        self, zeta: FloatArray, a: FloatArray, b: FloatArray
+    ) -> tuple[FloatArray, FloatArray]:
         """∫_a^b ξ^j φ(ζξ) ξ^m dξ for j = 0 and 1, as matrices [intervals, modes]."""
         reach = float(max(np.max(np.abs(a)), np.max(np.abs(b))))
         small = zeta * reach <= _SMALL_ARGUMENT
@@ -145,7 +159,9 @@ class ModeFamily:
         out0[:, small], out1[:, small] = s0, s1
         return out0, out1
 
-    def _series_moments(self, zeta: FloatArray, a: FloatArray, b: FloatArray) -> tuple[FloatArray, FloatArray]:
+    def _series_moments(
+        self, zeta: FloatArray, a: FloatArray, b: FloatArray
+    ) -> tuple[FloatArray, FloatArray]:
         k = np.arange(self.phi_series.size)
         power = 2 * k + self.parity
         out = []
@@ -237,7 +253,7 @@ FAMILIES: dict[Geometry, tuple[ModeFamily, ...]] = {
                 SurfaceKind.NO_FLUX: _integer_roots(-1.0),
                 SurfaceKind.CONVECTIVE: _bracketed(
                     lambda z, bi: z * np.sin(z) - bi * np.cos(z),
-                    lambda n: ((np.arange(n)) * np.pi, (np.arange(n) + 0.5) * np.pi),
+                    _interval_brackets(0.0, 0.5),
                 ),
             },
             spacing=np.pi / 2,
@@ -256,7 +272,7 @@ FAMILIES: dict[Geometry, tuple[ModeFamily, ...]] = {
                 SurfaceKind.NO_FLUX: _integer_roots(-0.5),
                 SurfaceKind.CONVECTIVE: _bracketed(
                     lambda z, bi: z * np.cos(z) + bi * np.sin(z),
-                    lambda n: ((np.arange(n) + 0.5) * np.pi, (np.arange(n) + 1.0) * np.pi),
+                    _interval_brackets(0.5, 1.0),
                 ),
             },
             spacing=np.pi / 2,
@@ -297,7 +313,7 @@ FAMILIES: dict[Geometry, tuple[ModeFamily, ...]] = {
                 SurfaceKind.NO_FLUX: _sphere_sealed,
                 SurfaceKind.CONVECTIVE: _bracketed(
                     lambda z, bi: np.cos(z) + (bi - 1.0) * np.sinc(z / np.pi),
-                    lambda n: (np.arange(n) * np.pi, (np.arange(n) + 1.0) * np.pi),
+                    _interval_brackets(0.0, 1.0),
                 ),
             },
             spacing=np.pi / 2,

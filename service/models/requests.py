@@ -19,9 +19,14 @@ _FINITE = Annotated[float, Field(allow_inf_nan=False, strict=True)]
 Quantity = _FINITE | _QUANTITY_TEXT
 Value = Annotated[
     float,
-    Field(allow_inf_nan=False, ge=-1e12, le=1e12, strict=True,
-          description="A concentration, mass fraction or temperature in any one unit; answers "
-                      "come back in the same unit."),
+    Field(
+        allow_inf_nan=False,
+        ge=-1e12,
+        le=1e12,
+        strict=True,
+        description="A concentration, mass fraction or temperature in any one unit; answers "
+        "come back in the same unit.",
+    ),
 ]
 Tolerance = Annotated[float, Field(gt=0, lt=1, allow_inf_nan=False, strict=True)]
 
@@ -33,10 +38,14 @@ class _Strict(BaseModel):
 class PositionSpec(_Strict):
     """A position given by depth below a surface, or by the words centre/surface."""
 
-    depth: Quantity | None = Field(None, description="Depth below the surface (m, or 'number unit').")
+    depth: Quantity | None = Field(
+        None, description="Depth below the surface (m, or 'number unit')."
+    )
     at: Literal["centre", "surface"] | None = None
     face: Literal["first", "second"] = Field(
-        "first", description="Slab only: which face 'surface' and 'depth' refer to (x = 0 is first).")
+        "first",
+        description="Slab only: which face 'surface' and 'depth' refer to (x = 0 is first).",
+    )
 
     @model_validator(mode="after")
     def _one_form(self) -> PositionSpec:
@@ -47,8 +56,10 @@ class PositionSpec(_Strict):
 
 Position = Annotated[
     _FINITE | _QUANTITY_TEXT | PositionSpec,
-    Field(description="A length from the first face (slab, x) or from the centre (r); the words "
-                      "'centre' or 'surface'; or {'depth': ...} / {'at': ..., 'face': ...}."),
+    Field(
+        description="A length from the first face (slab, x) or from the centre (r); the words "
+        "'centre' or 'surface'; or {'depth': ...} / {'at': ..., 'face': ...}."
+    ),
 ]
 
 
@@ -81,7 +92,8 @@ Body = Annotated[SlabBody | RadialBody, Field(discriminator="shape")]
 
 class Medium(_Strict):
     diffusivity: Quantity = Field(
-        description="Mass diffusivity, or thermal diffusivity for heat (m^2/s, or 'number unit').")
+        description="Mass diffusivity, or thermal diffusivity for heat (m^2/s, or 'number unit')."
+    )
 
 
 class UniformStart(_Strict):
@@ -93,7 +105,8 @@ class BandStart(_Strict):
     kind: Literal["band"]
     between: tuple[Position, Position] = Field(
         description="Two positions in increasing order: a layer of a slab, a shell of a "
-                    "cylinder or sphere.")
+        "cylinder or sphere."
+    )
     inside: Value
     outside: Value
 
@@ -101,9 +114,11 @@ class BandStart(_Strict):
 class ProfileStart(_Strict):
     kind: Literal["profile"]
     positions: list[Position] = Field(
-        min_length=2, max_length=2000,
+        min_length=2,
+        max_length=2000,
         description="Strictly increasing positions; linear between, flat beyond. A jump is two "
-                    "points close together.")
+        "points close together.",
+    )
     values: list[Value] = Field(min_length=2, max_length=2000)
 
     @model_validator(mode="after")
@@ -134,10 +149,12 @@ class ConvectiveSurface(_Strict):
     value units as the body."""
 
     kind: Literal["convective"]
-    biot: float | None = Field(None, gt=0, le=1e6, allow_inf_nan=False,
-                               description="Biot number k_f·Lc/D, in (0, 1e6].")
+    biot: float | None = Field(
+        None, gt=0, le=1e6, allow_inf_nan=False, description="Biot number k_f·Lc/D, in (0, 1e6]."
+    )
     transfer_coefficient: Quantity | None = Field(
-        None, description="Surface transfer coefficient k_f (m/s, or 'number unit').")
+        None, description="Surface transfer coefficient k_f (m/s, or 'number unit')."
+    )
     ambient: Value
 
     @model_validator(mode="after")
@@ -219,9 +236,15 @@ class CaseRequest(_Strict):
     initial: Initial
     surface: Surface
     engine: Literal["auto", "series", "finite_volume"] = Field(
-        "auto", description="'auto' runs the exact series where it applies.")
-    accuracy: float = Field(1e-4, ge=1e-10, le=1e-2, allow_inf_nan=False,
-                            description="Target relative accuracy of time_s.")
+        "auto", description="'auto' runs the exact series where it applies."
+    )
+    accuracy: float = Field(
+        1e-4,
+        ge=1e-10,
+        le=1e-2,
+        allow_inf_nan=False,
+        description="Target relative accuracy of time_s.",
+    )
 
 
 class SettlingRequest(CaseRequest):
@@ -231,17 +254,24 @@ class SettlingRequest(CaseRequest):
 class HistoryRequest(CaseRequest):
     criterion: Criterion | None = None
     times: list[Annotated[float, Field(gt=0, allow_inf_nan=False, le=1e15)]] | None = Field(
-        None, min_length=1, max_length=2000, description="Times in seconds, each > 0.")
+        None, min_length=1, max_length=2000, description="Times in seconds, each > 0."
+    )
     time_count: int | None = Field(
-        None, ge=2, le=2000,
-        description="Times spread log-uniformly from 1/1000 of the settling time to twice it.")
-    snapshot_count: int = Field(5, ge=0, le=50, description="Profiles returned, spread over the times.")
+        None,
+        ge=2,
+        le=2000,
+        description="Times spread log-uniformly from 1/1000 of the settling time to twice it.",
+    )
+    snapshot_count: int = Field(
+        5, ge=0, le=50, description="Profiles returned, spread over the times."
+    )
 
     @model_validator(mode="after")
     def _one_time_source(self) -> HistoryRequest:
         if (self.times is None) == (self.time_count is None):
             raise ValueError("give exactly one of 'times' or 'time_count'")
         if self.time_count is not None and self.criterion is None:
-            raise ValueError("'time_count' spreads times around the settling time, so it needs "
-                             "a 'criterion'")
+            raise ValueError(
+                "'time_count' spreads times around the settling time, so it needs a 'criterion'"
+            )
         return self

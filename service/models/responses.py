@@ -22,7 +22,8 @@ class Method(BaseModel):
     estimated_relative_error: float | None = Field(
         None,
         description="Estimated relative error of time_s: the truncation bound plus the root-finder "
-                    "tolerance (series), or the difference from a coarser grid (finite_volume).")
+        "tolerance (series), or the difference from a coarser grid (finite_volume).",
+    )
 
 
 class WarningOut(BaseModel):
@@ -43,11 +44,13 @@ class SettlingResponse(BaseModel):
     time_constant_s: float = Field(description="1/slowest_excited_rate_per_s.")
     measures: dict[str, float | None] = Field(
         description="Each measure defined for the case at time_s, as its criterion compares it "
-                    "(fraction_equilibrated as F itself); null where not finite.")
+        "(fraction_equilibrated as F itself); null where not finite."
+    )
     method: Method
     biot: float | None = None
     interpreted_positions_m: dict[str, float] = Field(
-        default_factory=dict, description="Every position in the request, in metres, by pointer.")
+        default_factory=dict, description="Every position in the request, in metres, by pointer."
+    )
     warnings: list[WarningOut]
     assumptions: list[str]
     cautions: list[str]

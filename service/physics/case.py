@@ -3,8 +3,8 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from enum import IntEnum, StrEnum
 from functools import cached_property
-from enum import Enum, IntEnum
 
 import numpy as np
 from numpy.typing import NDArray
@@ -28,7 +28,7 @@ class Geometry(IntEnum):
     SPHERE = 2
 
 
-class SurfaceKind(str, Enum):
+class SurfaceKind(StrEnum):
     """What happens at every exposed surface."""
 
     NO_FLUX = "no_flux"
@@ -116,8 +116,14 @@ class Start:
         left_value = self.v1[np.maximum(segment - 1, 0)]
         return np.asarray(np.where(at_joint, 0.5 * (value + left_value), value), dtype=float)
 
-    def moments(self, metric: int, lower_m: FloatArray, upper_m: FloatArray,
-                shift: float = 0.0, power: int = 1) -> FloatArray:
+    def moments(
+        self,
+        metric: int,
+        lower_m: FloatArray,
+        upper_m: FloatArray,
+        shift: float = 0.0,
+        power: int = 1,
+    ) -> FloatArray:
         """Exact ∫ (c − shift)**power · r**metric dr over each [lower, upper], which must each
         lie inside one segment (finite-volume faces include every breakpoint)."""
         lower = np.asarray(lower_m, dtype=float)

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+from itertools import pairwise
 
 import pytest
 from fastapi.testclient import TestClient
@@ -17,7 +18,7 @@ def test_history_times_spread_around_settling_time(client: TestClient) -> None:
     assert body["times_s"][-1] == pytest.approx(2 * settled, rel=1e-9)
     assert len(body["snapshots"]) == 5
     fractions = body["measures"]["fraction_equilibrated"]
-    assert all(b >= a for a, b in zip(fractions, fractions[1:], strict=False))
+    assert all(b >= a for a, b in pairwise(fractions))
 
 
 def test_history_profiles_match_sheet_series_at_centre(client: TestClient) -> None:
@@ -30,20 +31,26 @@ def test_history_profiles_match_sheet_series_at_centre(client: TestClient) -> No
     for snapshot in body["snapshots"]:
         t = snapshot["time_s"]
         expected = 1 - 4 / math.pi * sum(
-            (-1) ** n / (2 * n + 1) * math.exp(-diffusivity * (2 * n + 1) ** 2 * math.pi**2 * t
-                                               / (4 * half**2)) for n in range(200))
+            (-1) ** n
+            / (2 * n + 1)
+            * math.exp(-diffusivity * (2 * n + 1) ** 2 * math.pi**2 * t / (4 * half**2))
+            for n in range(200)
+        )
         middle = len(snapshot["positions_m"]) // 2
         assert snapshot["positions_m"][middle] == pytest.approx(half)
         assert snapshot["values"][middle] == pytest.approx(expected, abs=1e-8)
 
 
-@pytest.mark.parametrize(("extra", "pointer"), [
-    ({"times": [1.0], "time_count": 5}, ""),
-    ({"times": [-1.0]}, "/times/0"),
-    ({"times": []}, "/times"),
-    ({"time_count": 1}, "/time_count"),
-    ({"snapshot_count": 99, "times": [1.0]}, "/snapshot_count"),
-])
+@pytest.mark.parametrize(
+    ("extra", "pointer"),
+    [
+        ({"times": [1.0], "time_count": 5}, ""),
+        ({"times": [-1.0]}, "/times/0"),
+        ({"times": []}, "/times"),
+        ({"time_count": 1}, "/time_count"),
+        ({"snapshot_count": 99, "times": [1.0]}, "/snapshot_count"),
+    ],
+)
 def test_history_errors_name_the_field(client: TestClient, extra: dict, pointer: str) -> None:  # type: ignore[type-arg]
     response = client.post("/v1/history", json={**slab_request(), **extra})
     assert response.status_code == 422

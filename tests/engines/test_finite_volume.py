@@ -23,8 +23,12 @@ def _time_on(case, cells: int) -> float:  # type: ignore[no-untyped-def]
 @pytest.mark.parametrize("geometry", SHAPES)
 def test_finite_volume_observed_order_is_two(solver, geometry: Geometry) -> None:  # type: ignore[no-untyped-def]
     # Refine uniform grids, fit log(error) against log(cell size): a second-order scheme.
-    case = make_case(geometry, SurfaceKind.CONVECTIVE, biot=3.0,
-                     criterion=Criterion("mean_square_deviation", tolerance=0.01))
+    case = make_case(
+        geometry,
+        SurfaceKind.CONVECTIVE,
+        biot=3.0,
+        criterion=Criterion("mean_square_deviation", tolerance=0.01),
+    )
     exact = solver.settle(case).time_s  # series, error ~1e-12
     cells = np.array([10, 20, 40, 80])
     errors = np.array([abs(_time_on(case, int(n)) - exact) / exact for n in cells])
@@ -68,8 +72,9 @@ def _discrete_energy(case, faces, cells_u):  # type: ignore[no-untyped-def]
 @pytest.mark.parametrize("geometry", SHAPES)
 def test_finite_volume_energy_identity_holds(geometry: Geometry) -> None:
     # dE/dt = −(2/D)⟨u_t²⟩ for the semi-discrete system, with the convective surface term.
-    case = make_case(geometry, SurfaceKind.CONVECTIVE, biot=1.5, start=off_centre_band(geometry),
-                     diffusivity=0.7)
+    case = make_case(
+        geometry, SurfaceKind.CONVECTIVE, biot=1.5, start=off_centre_band(geometry), diffusivity=0.7
+    )
     faces = build_mesh(case, 50, None)
     solution = FiniteVolumeEngine().solution_on(case, faces)
     step = 1e-6
@@ -82,8 +87,9 @@ def test_finite_volume_energy_identity_holds(geometry: Geometry) -> None:
         mean_square_rate = float(np.sum(volumes * u_t**2) / np.sum(volumes))
         assert energy_rate == pytest.approx(-2 / 0.7 * mean_square_rate, rel=1e-5)
         # and the measure's closed form equals the directly assembled energy
-        measure = build_measure(case, Facts.of(case), solution,
-                                Criterion("dirichlet_energy", tolerance=0.5))
+        measure = build_measure(
+            case, Facts.of(case), solution, Criterion("dirichlet_energy", tolerance=0.5)
+        )
         normaliser = solution.slowest_rate_per_s / 0.7 * Facts.of(case).mean_square_start
         assert measure.value(time) * normaliser == pytest.approx(energy[1], rel=1e-9)
 

@@ -22,26 +22,40 @@ def _uptake_fraction(geometry: Geometry, fourier: float) -> float:
 def test_series_uptake_at_fourier_0_1_matches_crank(geometry: Geometry) -> None:
     # Crank (1975) eqs. 4.18, 5.23, 6.20, evaluated at D·t/a² = 0.1.
     reference = CRANK_F_AT_FOURIER_0_1[geometry.name.lower()]
-    assert _uptake_fraction(geometry, 0.1) == pytest.approx(reference.value, abs=reference.tolerance)
+    assert _uptake_fraction(geometry, 0.1) == pytest.approx(
+        reference.value, abs=reference.tolerance
+    )
 
 
 def test_series_sheet_half_time_matches_crank_on_full_thickness(solver) -> None:  # type: ignore[no-untyped-def]
     # Crank (1975): D·t½/l² = 0.049 with l the FULL thickness of the sheet (memory).
-    case = make_case(Geometry.SLAB, SurfaceKind.FIXED_VALUE, length_m=0.5,
-                     criterion=Criterion("fraction_equilibrated", fraction=0.5))
+    case = make_case(
+        Geometry.SLAB,
+        SurfaceKind.FIXED_VALUE,
+        length_m=0.5,
+        criterion=Criterion("fraction_equilibrated", fraction=0.5),
+    )
     answer = solver.settle(case)
     full_thickness = case.body.extent_m
     reference = CRANK_HALF_TIMES["slab_full_thickness"]
-    assert answer.time_s * 1.0 / full_thickness**2 == pytest.approx(reference.value,
-                                                                    abs=reference.tolerance)
+    assert answer.time_s * 1.0 / full_thickness**2 == pytest.approx(
+        reference.value, abs=reference.tolerance
+    )
 
 
-@pytest.mark.parametrize(("geometry", "key"), [(Geometry.SPHERE, "sphere_radius"),
-                                               (Geometry.CYLINDER, "cylinder_radius")])
+@pytest.mark.parametrize(
+    ("geometry", "key"),
+    [(Geometry.SPHERE, "sphere_radius"), (Geometry.CYLINDER, "cylinder_radius")],
+)
 def test_series_radial_half_times_match_crank(solver, geometry: Geometry, key: str) -> None:  # type: ignore[no-untyped-def]
     # Crank (1975) chapters 5 and 6: D·t½/a² = 0.06306 (cylinder), 0.03055 (sphere).
-    case = make_case(geometry, SurfaceKind.FIXED_VALUE, length_m=2.0, diffusivity=3.0,
-                     criterion=Criterion("fraction_equilibrated", fraction=0.5))
+    case = make_case(
+        geometry,
+        SurfaceKind.FIXED_VALUE,
+        length_m=2.0,
+        diffusivity=3.0,
+        criterion=Criterion("fraction_equilibrated", fraction=0.5),
+    )
     answer = solver.settle(case)
     reference = CRANK_HALF_TIMES[key]
     assert answer.time_s * 3.0 / 2.0**2 == pytest.approx(reference.value, abs=reference.tolerance)

@@ -42,8 +42,11 @@ def test_roots_cylinder_convective_satisfy_bessel_equation(biot: float) -> None:
 def test_roots_first_eigenvalue_matches_textbook_table(biot: float) -> None:
     # Çengel, Heat and Mass Transfer, Table 4-2 (seen); Incropera Table 5.1 (memory).
     wall, _, cylinder, _, sphere, _ = ONE_TERM[biot]
-    for geometry, printed in ((Geometry.SLAB, wall), (Geometry.CYLINDER, cylinder),
-                              (Geometry.SPHERE, sphere)):
+    for geometry, printed in (
+        (Geometry.SLAB, wall),
+        (Geometry.CYLINDER, cylinder),
+        (Geometry.SPHERE, sphere),
+    ):
         first = roots(geometry, SurfaceKind.CONVECTIVE, biot, 1)[0][0]
         assert first == pytest.approx(printed, abs=1e-4)
 
@@ -54,10 +57,14 @@ def test_series_one_term_coefficient_matches_textbook_table(biot: float) -> None
     # Çengel, Table 4-2 (seen in a scan).
     _, wall, _, cylinder, _, sphere = ONE_TERM[biot]
     engine = SeriesEngine()
-    for geometry, printed in ((Geometry.SLAB, wall), (Geometry.CYLINDER, cylinder),
-                              (Geometry.SPHERE, sphere)):
-        case = make_case(geometry, SurfaceKind.CONVECTIVE, biot=biot, surface_value=0.0,
-                         start_value=1.0)
+    for geometry, printed in (
+        (Geometry.SLAB, wall),
+        (Geometry.CYLINDER, cylinder),
+        (Geometry.SPHERE, sphere),
+    ):
+        case = make_case(
+            geometry, SurfaceKind.CONVECTIVE, biot=biot, surface_value=0.0, start_value=1.0
+        )
         solution = engine.solution(case, 0.05)
         centre = case.body.extent_m / 2 if geometry is Geometry.SLAB else 0.0
         first = solution.amplitudes[0] * solution.basis_at(np.array([centre]))[0, 0]
@@ -83,8 +90,10 @@ def test_slowest_wavenumber_sealed_bodies_match_published_values() -> None:
     slab = NO_FLUX_FIRST_WAVENUMBERS["slab_on_thickness"]
     # on the half-thickness the sealed slab's first mode is π/2, i.e. π on the full thickness
     assert 2 * slowest_wavenumber(Geometry.SLAB, SurfaceKind.NO_FLUX, 0.0) == pytest.approx(
-        slab.value, abs=slab.tolerance)
+        slab.value, abs=slab.tolerance
+    )
     for name, geometry in (("cylinder", Geometry.CYLINDER), ("sphere", Geometry.SPHERE)):
         reference = NO_FLUX_FIRST_WAVENUMBERS[name]
         assert slowest_wavenumber(geometry, SurfaceKind.NO_FLUX, 0.0) == pytest.approx(
-            reference.value, abs=reference.tolerance)
+            reference.value, abs=reference.tolerance
+        )
