@@ -6,6 +6,7 @@ import pytest
 
 from service.errors import InvalidInput
 from service.physics import Criterion, Geometry, Start, SurfaceKind
+from service.solver import Solver
 from tests.factories import KINDS, SHAPES, make_case, off_centre_band
 
 CRITERIA = {
@@ -37,10 +38,10 @@ def _starts(geometry: Geometry) -> dict[str, Start]:
 @pytest.mark.parametrize("kind", KINDS)
 @pytest.mark.parametrize("geometry", SHAPES)
 def test_engines_agree(
-    solver,
+    solver: Solver,
     geometry: Geometry,
     kind: SurfaceKind,
-    measure: str,  # type: ignore[no-untyped-def]
+    measure: str,
     start_name: str,
 ) -> None:
     start = _starts(geometry)[start_name]

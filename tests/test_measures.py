@@ -5,16 +5,17 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
+from service.engines import ModalSolution
 from service.engines.finite_volume import FiniteVolumeEngine, build_mesh
 from service.engines.series import SeriesEngine
 from service.measures import Facts, build_measure
-from service.physics import Criterion, Geometry, SurfaceKind
+from service.physics import Case, Criterion, Geometry, SurfaceKind
 from tests.factories import KINDS, SHAPES, make_case, off_centre_band
 
 _GRID = 40001
 
 
-def _quadrature_energy(case, solution, time: float) -> tuple[float, float]:  # type: ignore[no-untyped-def]
+def _quadrature_energy(case: Case, solution: ModalSolution, time: float) -> tuple[float, float]:
     """⟨|∂u/∂x|²⟩ + (A/V)(Bi/Lc)·mean_s(u_s²) and ⟨u²⟩ by direct quadrature of the profile."""
     body = case.body
     x = np.linspace(0.0, body.extent_m, _GRID)

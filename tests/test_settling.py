@@ -7,16 +7,16 @@ import pytest
 
 from service.engines.series import SeriesEngine
 from service.measures import Facts, build_measure
-from service.physics import Criterion, Geometry, Start, SurfaceKind
-from service.solver import format_time
+from service.physics import Case, Criterion, Geometry, Start, SurfaceKind
+from service.solver import Solver, format_time
 from tests.factories import KINDS, SHAPES, make_case, off_centre_band
 
 
 @pytest.mark.parametrize("geometry", SHAPES)
 @pytest.mark.parametrize("kind", KINDS)
 def test_settling_time_scales_with_length_squared_over_diffusivity(
-    solver,
-    geometry: Geometry,  # type: ignore[no-untyped-def]
+    solver: Solver,
+    geometry: Geometry,
     kind: SurfaceKind,
 ) -> None:
     criterion = Criterion("max_deviation", tolerance=0.05)
@@ -52,7 +52,7 @@ def test_settling_time_scales_with_length_squared_over_diffusivity(
 @pytest.mark.parametrize(
     "measure", ["mean_square_deviation", "max_deviation", "rsd", "dirichlet_energy", "value_at"]
 )
-def test_settling_time_is_monotone_in_tolerance(solver, measure: str) -> None:  # type: ignore[no-untyped-def]
+def test_settling_time_is_monotone_in_tolerance(solver: Solver, measure: str) -> None:
     times = []
     for tolerance in (0.3, 0.1, 0.03, 0.01, 0.003, 1e-4):
         criterion = Criterion(measure, tolerance=tolerance, position_m=0.2)
@@ -68,7 +68,7 @@ def test_settling_time_is_monotone_in_tolerance(solver, measure: str) -> None:  
     assert np.all(np.diff(times) > 0)
 
 
-def test_settling_fraction_is_monotone_in_fraction(solver) -> None:  # type: ignore[no-untyped-def]
+def test_settling_fraction_is_monotone_in_fraction(solver: Solver) -> None:
     times = [
         solver.settle(
             make_case(Geometry.CYLINDER, criterion=Criterion("fraction_equilibrated", fraction=f))
@@ -78,7 +78,7 @@ def test_settling_fraction_is_monotone_in_fraction(solver) -> None:  # type: ign
     assert np.all(np.diff(times) > 0)
 
 
-def _rise_then_fall_case():  # type: ignore[no-untyped-def]
+def _rise_then_fall_case() -> Case:
     """A slab held at 0 on both faces; a band of 1 near the first face; the point watched lies
     outside the band, so its deviation starts at zero, rises as the band spreads, then falls."""
     start = Start.from_pieces([(0.0, 0.2, 0.0, 0.0), (0.2, 0.5, 1.0, 1.0), (0.5, 2.0, 0.0, 0.0)])
@@ -88,7 +88,7 @@ def _rise_then_fall_case():  # type: ignore[no-untyped-def]
     )
 
 
-def test_settling_uses_last_crossing_when_a_point_rises_before_it_falls(solver) -> None:  # type: ignore[no-untyped-def]
+def test_settling_uses_last_crossing_when_a_point_rises_before_it_falls(solver: Solver) -> None:
     case = _rise_then_fall_case()
     answer = solver.settle(case)
     assert answer.definition == "last_crossing"
@@ -106,7 +106,7 @@ def test_settling_uses_last_crossing_when_a_point_rises_before_it_falls(solver) 
     ) == pytest.approx(0.02, rel=1e-8)
 
 
-def test_settling_point_on_held_surface_is_met_at_once(solver) -> None:  # type: ignore[no-untyped-def]
+def test_settling_point_on_held_surface_is_met_at_once(solver: Solver) -> None:
     # the deviation at a held surface is zero for every t > 0 (every mode vanishes there)
     case = make_case(
         Geometry.SPHERE,
@@ -118,7 +118,7 @@ def test_settling_point_on_held_surface_is_met_at_once(solver) -> None:  # type:
     assert [code for code, _ in answer.warnings] == ["settles_immediately"]
 
 
-def test_settling_point_at_node_of_antisymmetric_start_settles_at_once(solver) -> None:  # type: ignore[no-untyped-def]
+def test_settling_point_at_node_of_antisymmetric_start_settles_at_once(solver: Solver) -> None:
     # A start odd about the slab's centre excites only antisymmetric modes; the centre stays
     # at its final value for all time.
     start = Start.from_pieces([(0.0, 1.0, 1.0, 1.0), (1.0, 2.0, -1.0, -1.0)])
@@ -133,7 +133,7 @@ def test_settling_point_at_node_of_antisymmetric_start_settles_at_once(solver) -
     assert answer.time_s == 0.0
 
 
-def test_settling_centred_band_excites_no_antisymmetric_mode(solver) -> None:  # type: ignore[no-untyped-def]
+def test_settling_centred_band_excites_no_antisymmetric_mode(solver: Solver) -> None:
     # sealed slab of half-thickness 1: slowest mode π/2 (antisymmetric), next π (symmetric)
     centred = Start.from_pieces([(0.0, 0.7, 0.0, 0.0), (0.7, 1.3, 1.0, 1.0), (1.3, 2.0, 0.0, 0.0)])
     answer = solver.settle(
@@ -148,7 +148,7 @@ def test_settling_centred_band_excites_no_antisymmetric_mode(solver) -> None:  #
     assert answer.slowest_excited_rate_per_s == pytest.approx(np.pi**2, rel=1e-12)
 
 
-def test_measure_monotone_region_holds_after_bound(solver) -> None:  # type: ignore[no-untyped-def]
+def test_measure_monotone_region_holds_after_bound(solver: Solver) -> None:
     # After settled_after_s the point measure must not increase.
     case = _rise_then_fall_case()
     solution = SeriesEngine().solution(case, 1e-4)

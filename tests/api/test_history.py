@@ -51,7 +51,9 @@ def test_history_profiles_match_sheet_series_at_centre(client: TestClient) -> No
         ({"snapshot_count": 99, "times": [1.0]}, "/snapshot_count"),
     ],
 )
-def test_history_errors_name_the_field(client: TestClient, extra: dict, pointer: str) -> None:  # type: ignore[type-arg]
+def test_history_errors_name_the_field(
+    client: TestClient, extra: dict[str, object], pointer: str
+) -> None:
     response = client.post("/v1/history", json={**slab_request(), **extra})
     assert response.status_code == 422
     assert pointer in [error["pointer"] for error in response.json()["errors"]]

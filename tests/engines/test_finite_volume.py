@@ -4,15 +4,17 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
+from numpy.typing import NDArray
 
 from service.engines.finite_volume import FiniteVolumeEngine, build_mesh
 from service.measures import Facts, build_measure
-from service.physics import Criterion, Geometry, SurfaceKind
+from service.physics import Case, Criterion, Geometry, SurfaceKind
 from service.settling import find_settling_time
+from service.solver import Solver
 from tests.factories import KINDS, SHAPES, make_case, off_centre_band
 
 
-def _time_on(case, cells: int) -> float:  # type: ignore[no-untyped-def]
+def _time_on(case: Case, cells: int) -> float:
     engine = FiniteVolumeEngine()
     solution = engine.solution_on(case, build_mesh(case, cells, None))
     assert case.criterion is not None
@@ -21,7 +23,7 @@ def _time_on(case, cells: int) -> float:  # type: ignore[no-untyped-def]
 
 
 @pytest.mark.parametrize("geometry", SHAPES)
-def test_finite_volume_observed_order_is_two(solver, geometry: Geometry) -> None:  # type: ignore[no-untyped-def]
+def test_finite_volume_observed_order_is_two(solver: Solver, geometry: Geometry) -> None:
     # Refine uniform grids, fit log(error) against log(cell size): a second-order scheme.
     case = make_case(
         geometry,
@@ -50,7 +52,9 @@ def test_finite_volume_conserves_amount_with_sealed_surfaces(geometry: Geometry)
     np.testing.assert_allclose(amounts, initial, rtol=1e-12)
 
 
-def _discrete_energy(case, faces, cells_u):  # type: ignore[no-untyped-def]
+def _discrete_energy(
+    case: Case, faces: NDArray[np.float64], cells_u: NDArray[np.float64]
+) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
     """uᵀKu/(D·ΣV) assembled directly from face conductances (independent of the engine's
     eigen-decomposition)."""
     m = case.body.metric

@@ -7,6 +7,7 @@ import pytest
 
 from service.engines.series import SeriesEngine
 from service.physics import Criterion, Geometry, SurfaceKind
+from service.solver import Solver
 from tests.factories import make_case
 from tests.references import CRANK_F_AT_FOURIER_0_1, CRANK_HALF_TIMES
 
@@ -27,7 +28,7 @@ def test_series_uptake_at_fourier_0_1_matches_crank(geometry: Geometry) -> None:
     )
 
 
-def test_series_sheet_half_time_matches_crank_on_full_thickness(solver) -> None:  # type: ignore[no-untyped-def]
+def test_series_sheet_half_time_matches_crank_on_full_thickness(solver: Solver) -> None:
     # Crank (1975): D·t½/l² = 0.049 with l the FULL thickness of the sheet (memory).
     case = make_case(
         Geometry.SLAB,
@@ -47,7 +48,7 @@ def test_series_sheet_half_time_matches_crank_on_full_thickness(solver) -> None:
     ("geometry", "key"),
     [(Geometry.SPHERE, "sphere_radius"), (Geometry.CYLINDER, "cylinder_radius")],
 )
-def test_series_radial_half_times_match_crank(solver, geometry: Geometry, key: str) -> None:  # type: ignore[no-untyped-def]
+def test_series_radial_half_times_match_crank(solver: Solver, geometry: Geometry, key: str) -> None:
     # Crank (1975) chapters 5 and 6: D·t½/a² = 0.06306 (cylinder), 0.03055 (sphere).
     case = make_case(
         geometry,
