@@ -62,14 +62,11 @@ class ModalSolution:
     valid_from_s: float
     slowest_rate_per_s: float
     tail: Callable[[float], TailBound] | None = None
-    given_sample_basis: FloatArray | None = None
 
     @cached_property
     def sample_basis(self) -> FloatArray:
         """ψ_k at the sample positions, computed on first use (only the largest-deviation
         measure and profiles need it)."""
-        if self.given_sample_basis is not None:
-            return self.given_sample_basis
         return self.basis_at(self.sample_positions_m)
 
     def decay(self, times_s: FloatArray) -> FloatArray:

@@ -62,19 +62,34 @@ _MAX_ROUNDS = 6
 FOURIER_FLOOR = 1e-6
 
 
-def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> FloatArray:
-    """Face positions 0..extent with faces on every break of the start.
+def mirrored_extent(case: Case) -> float | None:
+    """Half the thickness when a slab and its start are mirror-symmetric (then only
+    0..thickness/2 is meshed, with a symmetry face at the centre), otherwise None."""
+    body = case.body
+    if body.geometry is Geometry.SLAB and case.start.is_mirror_symmetric(body.extent_m):
+        return body.extent_m / 2
+    return None
 
-    With ``diffusion_length_m`` the spacing is graded: h(x) = min(h_max, h_min + g·dist),
-    h_max = extent/cells, h_min = ℓ/cells, g = 4/cells, dist the distance to the nearest
-    exchanging surface or break. Without it the spacing is uniform (h_max)."""
+
+def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> FloatArray:
+    """Face positions from 0 to the meshed extent (the body, or half a mirror-symmetric slab),
+    with faces on every break of the start.
+
+    ``cells`` sets the spacing over the whole body. With ``diffusion_length_m`` the spacing is
+    graded: h(x) = min(h_max, h_min + g·dist), h_max = extent/cells, h_min = ℓ/cells,
+    g = 4/cells, dist the distance to the nearest exchanging surface or break. Without it the
+    spacing is uniform (h_max)."""
     extent = case.body.extent_m
+    half = mirrored_extent(case)
+    upper_end = half if half is not None else extent
     breaks = case.start.breakpoints_m
-    required = np.unique(np.r_[0.0, breaks, extent])
+    breaks = breaks[breaks < upper_end * (1 - 1e-12)]
+    required = np.unique(np.concatenate([[0.0], breaks, [upper_end]]))
     h_max = extent / cells
     features = list(breaks)
     if case.surface.kind is not SurfaceKind.NO_FLUX:
-        features.append(extent)
+        if half is None:
+            features.append(extent)
         if case.body.geometry is Geometry.SLAB:
             features.append(0.0)
     grade = diffusion_length_m is not None and bool(features)
@@ -89,7 +104,9 @@ def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> Floa
         else:
             spacing = np.full(x.size, h_max)
         density = 1.0 / spacing
-        cumulative = np.r_[0.0, np.cumsum(0.5 * (density[1:] + density[:-1]) * np.diff(x))]
+        cumulative = np.concatenate(
+            [[0.0], np.cumsum(0.5 * (density[1:] + density[:-1]) * np.diff(x))]
+        )
         # a count per sub-interval divisible by four, so that every second and every fourth
         # face (two coarser grids nested in this one) still land on every break
         count = 4 * max(1, math.ceil(0.25 * cumulative[-1] - 1e-9))
@@ -119,11 +136,16 @@ class FiniteVolumeEngine:
         """Every case of this service can be meshed."""
 
     def solution_on(self, case: Case, faces: FloatArray) -> ModalSolution:
-        """The exact-in-time solution of the semi-discrete problem on ``faces``."""
+        """The exact-in-time solution of the semi-discrete problem on ``faces``.
+
+        Faces that end at half a mirror-symmetric slab get a symmetry (no-flux) face there;
+        positions beyond it are read from their mirror images."""
         body = case.body
         m = body.metric
         diffusivity = case.medium.diffusivity_m2_per_s
         surface = case.surface
+        is_slab = body.geometry is Geometry.SLAB
+        is_mirrored = faces[-1] < body.extent_m * (1 - 1e-12)
         centres = 0.5 * (faces[1:] + faces[:-1])
         volumes = (faces[1:] ** (m + 1) - faces[:-1] ** (m + 1)) / (m + 1)
         areas = faces**m
@@ -132,13 +154,16 @@ class FiniteVolumeEngine:
         transfer = surface.biot * diffusivity / body.characteristic_length_m
         outer_gap = faces[-1] - centres[-1]
         inner_gap = centres[0] - faces[0]
-        outer = self._surface_conductance(surface.kind, diffusivity, areas[-1], outer_gap, transfer)
+        outer_kind = SurfaceKind.NO_FLUX if is_mirrored else surface.kind
+        outer = self._surface_conductance(outer_kind, diffusivity, areas[-1], outer_gap, transfer)
         inner = (
             self._surface_conductance(surface.kind, diffusivity, areas[0], inner_gap, transfer)
-            if body.geometry is Geometry.SLAB
+            if is_slab
             else 0.0
         )
-        diagonal = np.r_[conductance, 0.0] + np.r_[0.0, conductance]
+        diagonal = np.zeros(centres.size)
+        diagonal[:-1] += conductance
+        diagonal[1:] += conductance
         diagonal[-1] += outer
         diagonal[0] += inner
         root_volume = np.sqrt(volumes)
@@ -149,46 +174,50 @@ class FiniteVolumeEngine:
         except (linalg.LinAlgError, ValueError) as exc:
             raise NumericalFailure(f"the finite-volume eigensolver failed: {exc}") from exc
 
-        total = float(np.sum(volumes))
-        final = case.final_value
-        averages = case.start.moments(m, faces[:-1], faces[1:]) / volumes - final
-        amplitudes = vectors.T @ (root_volume * averages) / math.sqrt(total)
-        mode_means = vectors.T @ root_volume / math.sqrt(total)
-        cell_modes = vectors * (math.sqrt(total) / root_volume)[:, None]
+        root_total = math.sqrt(float(np.sum(volumes)))
+        averages = case.start.moments(m, faces[:-1], faces[1:]) / volumes - case.final_value
+        amplitudes = vectors.T @ (root_volume * averages) / root_total
+        mode_means = vectors.T @ root_volume / root_total
+        keep = slice(None)
         if surface.kind is SurfaceKind.NO_FLUX:
-            keep = np.arange(rates.size) != int(np.argmin(rates))
+            keep = np.arange(rates.size) != int(np.argmin(rates))  # type: ignore[assignment]
             rates, amplitudes, mode_means = rates[keep], amplitudes[keep], mode_means[keep]
-            cell_modes = cell_modes[:, keep]
         rates = np.maximum(rates, 0.0)
 
-        outer_factor = _boundary_factor(surface.kind, diffusivity / outer_gap, transfer)
+        outer_factor = _boundary_factor(outer_kind, diffusivity / outer_gap, transfer)
         inner_factor = _boundary_factor(surface.kind, diffusivity / inner_gap, transfer)
-        is_slab = body.geometry is Geometry.SLAB
+        extent = body.extent_m
+        cell_modes: list[FloatArray] = []
 
         def basis_at(positions_m: FloatArray) -> FloatArray:
+            if not cell_modes:
+                cell_modes.append(vectors[:, keep] * (root_total / root_volume)[:, None])
+            positions = np.asarray(positions_m, dtype=float)
+            if is_mirrored:
+                positions = np.minimum(positions, extent - positions)
             return _interpolate(
-                np.asarray(positions_m, dtype=float),
+                positions,
                 faces,
                 centres,
-                cell_modes,
+                cell_modes[0],
                 inner_factor if is_slab else None,
                 outer_factor,
             )
 
         return ModalSolution(
             engine=self.name,
-            resolution=int(centres.size),
+            resolution=int(centres.size * (2 if is_mirrored else 1)),
             diffusivity_m2_per_s=diffusivity,
             rates_per_s=rates,
             amplitudes=amplitudes,
             mode_means=mode_means,
             basis_at=basis_at,
-            sample_positions_m=centres,
+            # past a symmetry face, one mirrored sample lets a peak there be refined
+            sample_positions_m=np.append(centres, extent - centres[-1]) if is_mirrored else centres,
             refine_max=True,
             valid_from_s=0.0,
             slowest_rate_per_s=float(rates[0]),
             tail=None,
-            given_sample_basis=cell_modes,
         )
 
     @staticmethod

@@ -151,6 +151,18 @@ class Start:
             cache[metric] = (values.ravel(), (width * _GL_W[None, :] * x**metric).ravel())
         return cache[metric]
 
+    def is_mirror_symmetric(self, extent_m: float) -> bool:
+        """Whether c(x) = c(extent − x): compared on both sides of every break and its mirror
+        image and between them (exact for piecewise-linear profiles, to round-off)."""
+        points = np.unique(np.r_[self.x0, self.x1, extent_m - self.x0, extent_m - self.x1])
+        points = np.clip(np.r_[points, 0.5 * (points[1:] + points[:-1])], 0.0, extent_m)
+        offset = 1e-9 * extent_m
+        probes = np.clip(np.r_[points - offset, points + offset], 0.0, extent_m)
+        here = self.values(probes)
+        mirrored = self.values(extent_m - probes)
+        scale = float(np.max(np.abs(np.r_[self.v0, self.v1]))) or 1.0
+        return bool(np.all(np.abs(here - mirrored) <= 1e-12 * scale))
+
     def max_abs_deviation(self, reference: float) -> float:
         return float(np.max(np.abs(np.r_[self.v0, self.v1] - reference)))
 

@@ -14,12 +14,13 @@ from service.solver import Solver
 from tests.factories import KINDS, SHAPES, make_case, off_centre_band
 
 
-def _time_on(case: Case, cells: int) -> float:
+def _time_on(case: Case, cells: int) -> tuple[float, int]:
+    """Settling time on a uniform grid, and the cells it really had."""
     engine = FiniteVolumeEngine()
     solution = engine.solution_on(case, build_mesh(case, cells, None))
     assert case.criterion is not None
     measure = build_measure(case, Facts.of(case), solution, case.criterion)
-    return find_settling_time(measure, 1e-8).time_s
+    return find_settling_time(measure, 1e-8).time_s, solution.resolution
 
 
 @pytest.mark.parametrize("geometry", SHAPES)
@@ -32,8 +33,9 @@ def test_finite_volume_observed_order_is_two(solver: Solver, geometry: Geometry)
         criterion=Criterion("mean_square_deviation", tolerance=0.01),
     )
     exact = solver.settle(case).time_s  # series, error ~1e-12
-    cells = np.array([10, 20, 40, 80])
-    errors = np.array([abs(_time_on(case, int(n)) - exact) / exact for n in cells])
+    runs = [_time_on(case, n) for n in (16, 32, 64, 128)]
+    errors = np.array([abs(time - exact) / exact for time, _ in runs])
+    cells = np.array([resolution for _, resolution in runs], dtype=float)
     slope = np.polyfit(np.log(1.0 / cells), np.log(errors), 1)[0]
     assert 1.8 < slope < 2.2
 
@@ -106,3 +108,33 @@ def test_finite_volume_max_deviation_never_increases(geometry: Geometry, kind: S
     cells = solution.weighted(np.geomspace(1e-5, 3.0, 300)) @ solution.sample_basis.T
     peaks = np.max(np.abs(cells), axis=1)
     assert np.all(np.diff(peaks) <= 1e-13)
+
+
+@pytest.mark.parametrize("kind", KINDS)
+def test_finite_volume_half_slab_equals_whole_slab(kind: SurfaceKind) -> None:
+    # A mirror-symmetric slab is meshed over half its thickness; the same discrete problem on
+    # the mirrored whole-slab grid must give the same answer to round-off.
+    from service.physics import Start
+
+    start = Start.from_pieces([(0.0, 0.6, 1.0, 1.0), (0.6, 1.4, 0.1, 0.1), (1.4, 2.0, 1.0, 1.0)])
+    case = make_case(
+        Geometry.SLAB,
+        kind,
+        start=start,
+        surface_value=0.3,
+        biot=1.2,
+        criterion=Criterion("max_deviation", tolerance=0.05),
+    )
+    half_faces = build_mesh(case, 64, None)
+    assert half_faces[-1] == pytest.approx(1.0)
+    whole_faces = np.concatenate([half_faces, 2.0 - half_faces[-2::-1]])
+    engine = FiniteVolumeEngine()
+    facts = Facts.of(case)
+    assert case.criterion is not None
+    times = [
+        find_settling_time(
+            build_measure(case, facts, engine.solution_on(case, faces), case.criterion), 1e-8
+        ).time_s
+        for faces in (half_faces, whole_faces)
+    ]
+    assert times[0] == pytest.approx(times[1], rel=1e-10)

@@ -1,0 +1,267 @@
+"""In-process speed of both engines, side by side with what a practitioner would write instead.
+
+Run by hand:  python benchmarks/engines.py  (about a minute). Figures go in the issue note.
+
+For each case it reports the median compute time per query of mixclock's solver (the whole
+settling-time answer, every measure at the answer included) with the series engine and with
+the finite-volume engine at 1e-4, and on the baseline cases the time and the error of
+  * an explicit finite-difference loop in numpy (forward Euler at the stability limit), and
+  * method of lines with scipy's solve_ivp: BDF with a banded Jacobian sparsity and a terminal
+    event, and LSODA with its band,
+each on a uniform grid fine enough for 1e-4 and stopped by the same criterion.
+"""
+
+from __future__ import annotations
+
+import math
+import statistics
+import sys
+import time
+from collections.abc import Callable
+from pathlib import Path
+
+import numpy as np
+from scipy import integrate, sparse
+
+sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
+
+from service.physics import (
+    Body,
+    Case,
+    Criterion,
+    Geometry,
+    Medium,
+    Start,
+    Surface,
+    SurfaceKind,
+)
+from service.solver import Solver
+
+REPEATS = 7
+
+
+def _case(
+    geometry: Geometry, kind: SurfaceKind, criterion: Criterion, engine: str, start: str = "uniform"
+) -> Case:
+    extent = 2.0e-3 if geometry is Geometry.SLAB else 1.0e-3
+    if start == "band":
+        low, high = 0.15 * extent, 0.4 * extent
+        initial = Start.from_pieces(
+            [(0, low, 0.2, 0.2), (low, high, 1.0, 1.0), (high, extent, 0.2, 0.2)]
+        )
+    else:
+        initial = Start.uniform(extent, 0.0)
+    return Case(
+        Body(geometry, extent),
+        Medium(1e-9),
+        initial,
+        Surface(kind, value=1.0, biot=2.0 if kind is SurfaceKind.CONVECTIVE else 0.0),
+        criterion,
+        accuracy=1e-4,
+        engine=engine,
+    )
+
+
+def _median_ms(action: Callable[[], object], repeats: int = REPEATS) -> float:
+    action()
+    samples = []
+    for _ in range(repeats):
+        started = time.perf_counter()
+        action()
+        samples.append(time.perf_counter() - started)
+    return statistics.median(samples) * 1e3
+
+
+def _per_query_ms(solver: Solver, case: Case) -> float:
+    loops = 50 if case.engine == "series" else 5
+    return _median_ms(lambda: [solver.settle(case) for _ in range(loops)]) / loops
+
+
+CRITERIA = {
+    "mean_square_deviation": Criterion("mean_square_deviation", tolerance=0.01),
+    "max_deviation": Criterion("max_deviation", tolerance=0.05),
+    "rsd": Criterion("rsd", tolerance=0.02),
+    "dirichlet_energy": Criterion("dirichlet_energy", tolerance=0.01),
+    "fraction_equilibrated": Criterion("fraction_equilibrated", fraction=0.95),
+    "value_at": Criterion("value_at", tolerance=0.05, position_m=0.3e-3),
+}
+EARLY = {
+    "fraction 0.2": Criterion("fraction_equilibrated", fraction=0.2),
+    "mean-square 0.8": Criterion("mean_square_deviation", tolerance=0.8),
+}
+
+
+def engine_table(solver: Solver) -> None:
+    print("\n## Engines, ms of compute per query (median)")
+    print(f"{'case':52s} {'Fo':>8s} {'series':>8s} {'f.vol.':>8s} {'cells':>6s} {'rel.diff':>9s}")
+    rows: dict[str, list[float]] = {"series": [], "fv_long": [], "fv_short": []}
+    for geometry in Geometry:
+        for kind in SurfaceKind:
+            for name, criterion in [*CRITERIA.items(), *EARLY.items()]:
+                if kind is SurfaceKind.NO_FLUX and name.startswith("fraction"):
+                    continue
+                start = "band" if kind is SurfaceKind.NO_FLUX else "uniform"
+                series_case = _case(geometry, kind, criterion, "series", start)
+                volume_case = _case(geometry, kind, criterion, "finite_volume", start)
+                exact = solver.settle(series_case)
+                approx = solver.settle(volume_case)
+                series_ms = _per_query_ms(solver, series_case)
+                volume_ms = _per_query_ms(solver, volume_case)
+                rows["series"].append(series_ms)
+                rows["fv_long" if exact.fourier_number >= 0.05 else "fv_short"].append(volume_ms)
+                label = f"{geometry.name.lower()} {kind.value} {name}"
+                print(
+                    f"{label:52s} {exact.fourier_number:8.3g} {series_ms:8.3f} {volume_ms:8.3f} "
+                    f"{approx.resolution:6d} {abs(approx.time_s / exact.time_s - 1):9.1e}"
+                )
+    for key, label in (
+        ("series", "series, all cases"),
+        ("fv_long", "finite volume, Fo >= 0.05"),
+        ("fv_short", "finite volume, Fo < 0.05"),
+    ):
+        values = rows[key]
+        print(
+            f"{label:30s} median {statistics.median(values):7.3f} ms  max {max(values):7.3f} ms"
+            f"  ({len(values)} cases)"
+        )
+
+
+def _uniform_operator(case: Case, cells: int) -> tuple[sparse.csr_matrix, np.ndarray, np.ndarray]:
+    """What a practitioner writes: cell-centred volumes on a uniform grid, tridiagonal operator."""
+    m = case.body.metric
+    d = case.medium.diffusivity_m2_per_s
+    faces = np.linspace(0.0, case.body.extent_m, cells + 1)
+    centres = 0.5 * (faces[1:] + faces[:-1])
+    volumes = (faces[1:] ** (m + 1) - faces[:-1] ** (m + 1)) / (m + 1)
+    g = d * faces[1:-1] ** m / np.diff(centres)
+    diagonal = np.r_[g, 0.0] + np.r_[0.0, g]
+    kf = case.surface.biot * d / case.body.characteristic_length_m
+    half = faces[-1] - centres[-1]
+    boundary = {
+        SurfaceKind.NO_FLUX: 0.0,
+        SurfaceKind.FIXED_VALUE: d / half,
+        SurfaceKind.CONVECTIVE: 1.0 / (half / d + 1.0 / kf) if kf else 0.0,
+    }[case.surface.kind]
+    diagonal[-1] += boundary * faces[-1] ** m
+    forcing = np.zeros(cells)
+    forcing[-1] = boundary * faces[-1] ** m * case.surface.value
+    if case.body.geometry is Geometry.SLAB:
+        diagonal[0] += boundary
+        forcing[0] = boundary * case.surface.value
+    operator = sparse.diags([g / volumes[1:], -diagonal / volumes, g / volumes[:-1]], [-1, 0, 1])
+    return operator.tocsr(), forcing / volumes, volumes
+
+
+def _start_cells(case: Case, cells: int) -> np.ndarray:
+    m = case.body.metric
+    faces = np.linspace(0.0, case.body.extent_m, cells + 1)
+    volumes = (faces[1:] ** (m + 1) - faces[:-1] ** (m + 1)) / (m + 1)
+    return case.start.moments(m, faces[:-1], faces[1:]) / volumes
+
+
+def _mean_square_ratio(case: Case, volumes: np.ndarray) -> Callable[[np.ndarray], float]:
+    final = case.final_value
+    initial = case.start.body_moment(case.body.metric, shift=final, power=2) / case.body_weight
+    total = float(np.sum(volumes))
+    return lambda y: float(np.sum(volumes * (y - final) ** 2) / total / initial)
+
+
+def explicit_loop(case: Case, cells: int, tolerance: float) -> float:
+    operator, forcing, volumes = _uniform_operator(case, cells)
+    ratio = _mean_square_ratio(case, volumes)
+    y = _start_cells(case, cells)
+    step = 0.9 / float(np.max(np.abs(operator.diagonal())))  # forward Euler stability limit
+    t, previous = 0.0, ratio(y)
+    for _ in range(10_000_000):
+        y = y + step * (operator @ y + forcing)
+        t += step
+        current = ratio(y)
+        if current <= tolerance:
+            return t - step * (current - tolerance) / (current - previous)
+        previous = current
+    raise RuntimeError("the explicit loop did not reach the tolerance")
+
+
+def method_of_lines(case: Case, cells: int, tolerance: float, method: str) -> float:
+    operator, forcing, volumes = _uniform_operator(case, cells)
+    ratio = _mean_square_ratio(case, volumes)
+
+    def event(t: float, y: np.ndarray) -> float:
+        return ratio(y) - tolerance
+
+    event.terminal = True  # type: ignore[attr-defined]
+    horizon = 50.0 * case.diffusion_time_s
+    options: dict[str, object] = {"rtol": 1e-8, "atol": 1e-12}
+    if method == "BDF":
+        options["jac"] = operator
+        options["jac_sparsity"] = sparse.diags([1.0, 1.0, 1.0], [-1, 0, 1], shape=(cells, cells))
+    else:
+        options["lband"] = options["uband"] = 1
+        dense = operator.toarray()
+        banded = np.zeros((3, cells))  # LSODA's band storage: banded[i - j + 1, j] = J[i, j]
+        banded[0, 1:] = np.diag(dense, 1)
+        banded[1] = np.diag(dense)
+        banded[2, :-1] = np.diag(dense, -1)
+        options["jac"] = lambda t, y: banded
+    result = integrate.solve_ivp(
+        lambda t, y: operator @ y + forcing,
+        (0.0, horizon),
+        _start_cells(case, cells),
+        method=method,
+        events=event,
+        **options,
+    )
+    return float(result.t_events[0][0])
+
+
+def baseline_table(solver: Solver) -> None:
+    print("\n## Against what a practitioner would write (mean-square deviation to 1e-2)")
+    print(f"{'case':34s} {'method':26s} {'ms/query':>10s} {'rel.error':>10s}")
+    cases = [
+        (Geometry.SLAB, SurfaceKind.FIXED_VALUE),
+        (Geometry.CYLINDER, SurfaceKind.CONVECTIVE),
+        (Geometry.SPHERE, SurfaceKind.CONVECTIVE),
+    ]
+    tolerance = 0.01
+    for geometry, kind in cases:
+        criterion = Criterion("mean_square_deviation", tolerance=tolerance)
+        exact = solver.settle(_case(geometry, kind, criterion, "series")).time_s
+        volume_case = _case(geometry, kind, criterion, "finite_volume")
+        ours = solver.settle(volume_case)
+        label = f"{geometry.name.lower()} {kind.value}"
+        fv_ms = _per_query_ms(solver, volume_case)
+        print(
+            f"{label:34s} {'mixclock finite_volume':26s} {fv_ms:10.3f} "
+            f"{abs(ours.time_s / exact - 1):10.1e}"
+        )
+        # the practitioner's uniform grid: the same cell count as our accepted grid
+        cells = ours.resolution
+        for name, run in (
+            ("explicit loop (numpy)", lambda: explicit_loop(volume_case, cells, tolerance)),
+            (
+                "solve_ivp BDF, banded",
+                lambda: method_of_lines(volume_case, cells, tolerance, "BDF"),
+            ),
+            (
+                "solve_ivp LSODA, band",
+                lambda: method_of_lines(volume_case, cells, tolerance, "LSODA"),
+            ),
+        ):
+            found = run()
+            elapsed = _median_ms(run, repeats=3)
+            print(
+                f"{'':34s} {name:26s} {elapsed:10.3f} {abs(found / exact - 1):10.1e}"
+                f"   ({elapsed / fv_ms:6.0f}x ours)"
+            )
+
+
+def main() -> None:
+    solver = Solver()
+    print(f"mixclock engine benchmark, numpy {np.__version__}, {REPEATS} repeats, median")
+    engine_table(solver)
+    baseline_table(solver)
+    _ = math
+
+
+if __name__ == "__main__":
+    main()
