@@ -211,6 +211,14 @@ class _SquareSum(Measure):
     def value(self, time_s: float) -> float:
         return float(np.exp(self._exponents * time_s) @ self._terms)
 
+    def guess_s(self) -> float:
+        """Where the slowest term alone would reach the level."""
+        lead = int(np.argmax(self._terms > EXCITED_FRACTION * float(np.max(self._terms))))
+        rate = -self._exponents[lead]
+        if rate <= 0:
+            return super().guess_s()
+        return max(math.log(max(self._terms[lead] / self.level, 1.0 + 1e-9)) / rate, 1e-300)
+
 
 class MeanSquareDeviation(_SquareSum):
     """⟨u²⟩(t)/⟨u0²⟩; with no-flux surfaces, the variance ratio (intensity of segregation)."""

@@ -32,6 +32,8 @@ _CHUNK = 32
 _TANGENT_FRACTION = 0.05
 # Relative tolerance of every root-find (the engines add it to their error estimates).
 ROOT_RTOL = 1e-12
+# Values below this are taken as this in logarithms.
+_TINY = 1e-300
 # Bracket expansion: factor per step and the most steps before giving up.
 _EXPAND = 2.0
 _MAX_EXPANSIONS = 2000
@@ -80,18 +82,12 @@ def _monotone(measure: Measure, floor_s: float) -> Crossing:
     if _excess(measure, floor_s) <= 0:
         return Crossing(time_s=floor_s, definition="monotone", hit_floor=True)
     guess = max(measure.guess_s(), floor_s)
-    lower = floor_s
     if _excess(measure, guess) > 0:
         return Crossing(_beyond(measure, guess), "monotone", hit_floor=False)
-    upper = guess
-    # tighten the lower end toward the guess so Brent's method starts from a narrow bracket
-    probe = guess / _EXPAND
-    while probe > floor_s and _excess(measure, probe) <= 0:
-        upper, probe = probe, probe / _EXPAND
-    lower = max(floor_s, probe)
-    if _excess(measure, lower) <= 0:
-        return Crossing(time_s=floor_s, definition="monotone", hit_floor=True)
-    return Crossing(_root(measure, lower, upper), "monotone", hit_floor=False)
+    upper, lower = guess, guess / _EXPAND
+    while lower > floor_s and _excess(measure, lower) <= 0:
+        upper, lower = lower, lower / _EXPAND
+    return Crossing(_root(measure, max(lower, floor_s), upper), "monotone", hit_floor=False)
 
 
 def _last_crossing(measure: Measure, floor_s: float) -> Crossing:

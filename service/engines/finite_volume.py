@@ -180,7 +180,7 @@ class FiniteVolumeEngine:
         mode_means = vectors.T @ root_volume / root_total
         keep = slice(None)
         if surface.kind is SurfaceKind.NO_FLUX:
-            keep = np.arange(rates.size) != int(np.argmin(rates))  # type: ignore[assignment]
+            keep = np.arange(rates.size) != int(np.argmin(rates))
             rates, amplitudes, mode_means = rates[keep], amplitudes[keep], mode_means[keep]
         rates = np.maximum(rates, 0.0)
 
