@@ -537,23 +537,24 @@ def build_measure(
     return MEASURES[name](facts, solution, criterion.tolerance)
 
 
-def defined_measures(
-    case: Case, facts: Facts, solution: ModalSolution, criterion: Criterion | None
-) -> dict[str, Measure]:
+def defined_measures(case: Case, facts: Facts, solution: ModalSolution,
+                     criterion: Criterion | None,
+                     criterion_measure: Measure | None = None) -> dict[str, Measure]:
     """Every measure defined for the case (value_at only when the criterion names a point),
-    each at the level its own criterion would use (1 where the criterion is another)."""
+    the criterion's own measure reused when given, the others at level 1."""
     out: dict[str, Measure] = {}
     for name, cls in MEASURES.items():
-        if name == "rsd" and facts.rsd_refusal:
+        if criterion_measure is not None and name == criterion_measure.name:
+            out[name] = criterion_measure
+        elif name == "rsd" and facts.rsd_refusal:
             continue
-        if name == "fraction_equilibrated" and facts.fraction_refusal:
+        elif name == "fraction_equilibrated" and facts.fraction_refusal:
             continue
-        if name == "value_at":
+        elif name == "value_at":
             if criterion is not None and criterion.measure == "value_at":
                 out[name] = build_measure(case, facts, solution, criterion)
-            continue
-        if name == "fraction_equilibrated":
+        elif name == "fraction_equilibrated":
             out[name] = FractionEquilibrated(facts, solution, 1.0)
-            continue
-        out[name] = cls(facts, solution, 1.0)
+        else:
+            out[name] = cls(facts, solution, 1.0)
     return out

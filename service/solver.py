@@ -218,8 +218,7 @@ class Solver:
                     )
                 )
 
-        measured = defined_measures(case, facts, run.solution, criterion)
-        measured[criterion.measure] = measure
+        measured = defined_measures(case, facts, run.solution, criterion, measure)
         values: dict[str, float | None] = {}
         for name, each in measured.items():
             values[name] = _finite(each.reported(time_s) if time_s > 0 else each.initial_value())
