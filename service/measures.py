@@ -42,7 +42,7 @@ from scipy import optimize
 
 from service.engines import spectra
 from service.engines.common import ModalSolution, TailBound
-from service.errors import InvalidInput
+from service.errors import InvalidInput, NumericalFailure
 from service.physics import Case, Criterion, SurfaceKind
 
 __all__ = ["MEASURES", "Facts", "Measure", "build_measure", "defined_measures"]
@@ -175,6 +175,11 @@ class Measure(ABC):
     def guess_s(self) -> float:
         """A first guess of the crossing from the slowest excited mode."""
         rate = _slowest_excited_rate(self.solution)
+        if not rate > 0:
+            raise NumericalFailure(
+                "the slowest excited mode does not decay in floating point "
+                "(a Biot number or diffusivity too small to represent)"
+            )
         return max(math.log(max(1.0 / self.level, 1.0 + 1e-9)) / rate, 1e-300)
 
 
@@ -537,18 +542,22 @@ def build_measure(
     return MEASURES[name](facts, solution, criterion.tolerance)
 
 
-def defined_measures(case: Case, facts: Facts, solution: ModalSolution,
-                     criterion: Criterion | None,
-                     criterion_measure: Measure | None = None) -> dict[str, Measure]:
+def defined_measures(
+    case: Case,
+    facts: Facts,
+    solution: ModalSolution,
+    criterion: Criterion | None,
+    criterion_measure: Measure | None = None,
+) -> dict[str, Measure]:
     """Every measure defined for the case (value_at only when the criterion names a point),
     the criterion's own measure reused when given, the others at level 1."""
     out: dict[str, Measure] = {}
     for name, cls in MEASURES.items():
         if criterion_measure is not None and name == criterion_measure.name:
             out[name] = criterion_measure
-        elif name == "rsd" and facts.rsd_refusal:
-            continue
-        elif name == "fraction_equilibrated" and facts.fraction_refusal:
+        elif (name == "rsd" and facts.rsd_refusal) or (
+            name == "fraction_equilibrated" and facts.fraction_refusal
+        ):
             continue
         elif name == "value_at":
             if criterion is not None and criterion.measure == "value_at":

@@ -14,7 +14,7 @@ from numpy.typing import NDArray
 
 from service.engines import Crossing, Engine, ModalSolution, SeriesEngine, make_engines
 from service.engines.series import FOURIER_FLOOR
-from service.errors import InvalidInput, NotApplicable
+from service.errors import InvalidInput, NotApplicable, NumericalFailure
 from service.measures import (
     Facts,
     Measure,
@@ -185,7 +185,14 @@ class Solver:
             slope = abs(measure.value(time_s + step) - measure.value(time_s - step)) / (2 * step)
             return error / (slope * time_s) if slope > 0 else error
 
-        run = engine.settle(case, search, truncation_error)
+        try:
+            run = engine.settle(case, search, truncation_error)
+        except (ArithmeticError, ValueError, MemoryError) as exc:
+            raise NumericalFailure(
+                "the engine could not represent this case in floating point (a rate or time "
+                f"beyond its range: {exc}); check the inputs' magnitudes",
+                "/surface" if case.surface.kind is SurfaceKind.CONVECTIVE else "",
+            ) from exc
         crossing = run.crossing
         measure = measure_on(run.solution)
         warnings = list(run.warnings)
@@ -260,6 +267,14 @@ class Solver:
             times = np.geomspace(1e-3 * settled, 2.0 * settled, time_count)
         else:
             times = np.asarray(times_s, dtype=float)
+            earliest = FOURIER_FLOOR * case.diffusion_time_s
+            for index, time_s in enumerate(times_s):
+                if time_s < earliest:
+                    raise InvalidInput(
+                        f"{time_s:g} s is earlier than Fo = {FOURIER_FLOOR:g} ({earliest:.3g} s "
+                        "here), the earliest time the engines resolve",
+                        f"/times/{index}",
+                    )
         facts = self._facts(case)
         engine = self._engine(case)
         solution = engine.solution(case, float(np.min(times)))
@@ -293,6 +308,3 @@ class Solver:
             engine=solution.engine,
             resolution=solution.resolution,
         )
-
-
-_ = FOURIER_FLOOR

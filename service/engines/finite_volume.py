@@ -32,7 +32,7 @@ from numpy.typing import NDArray
 from scipy import linalg
 
 from service.engines.common import Crossing, EngineRun, ModalSolution
-from service.errors import NumericalFailure
+from service.errors import NotApplicable, NumericalFailure
 from service.physics import Case, Geometry, SurfaceKind
 
 __all__ = ["FiniteVolumeEngine", "build_mesh"]
@@ -44,12 +44,18 @@ _CELLS_PER_ROOT_ACCURACY = 1.2
 _MIN_CELLS = 32
 # Above this many cells the eigendecomposition costs more than a query should; stop there.
 _MAX_CELLS = 3000
+# The first grid never has more than this many cells; refinement goes on from there.
+_MAX_START_CELLS = 800
 # Grading: the smallest cell is this many diffusion lengths over the cell count, and
 # neighbouring cells grow by at most 1 + _GROWTH/cells. Grading starts when the diffusion
 # length at the answer is below _GRADE_BELOW of the body's extent.
 _GRADING_CELLS = 1.0
 _GROWTH = 4.0
 _GRADE_BELOW = 0.25
+# The slowest rate must exceed this fraction of the fastest for the eigenvalues to be trusted.
+_CONDITION_FLOOR = 1e-13
+# Breaks of the start closer than this fraction of the coarsest cell are merged into one cell.
+_MIN_GAP = 1e-3
 # Points per sub-interval on which the grading integral is tabulated.
 _GRADING_SAMPLES = 256
 # Safety factors of the grid convergence index: when the observed order is confirmed, and not.
@@ -71,6 +77,20 @@ def mirrored_extent(case: Case) -> float | None:
     return None
 
 
+def _separated(breaks: FloatArray, upper_end: float, gap: float) -> FloatArray:
+    """Breaks strictly inside (0, upper_end), dropping any closer than ``gap`` to the one kept
+    before it or to either end: a sliver of the start that thin then shares a cell with its
+    neighbour, whose average still integrates it exactly, instead of making a cell so thin
+    that the operator loses its accuracy."""
+    kept: list[float] = []
+    last = 0.0
+    for point in np.sort(breaks).tolist():
+        if point - last >= gap and upper_end - point >= gap:
+            kept.append(point)
+            last = point
+    return np.asarray(kept, dtype=float)
+
+
 def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> FloatArray:
     """Face positions from 0 to the meshed extent (the body, or half a mirror-symmetric slab),
     with faces on every break of the start.
@@ -82,10 +102,9 @@ def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> Floa
     extent = case.body.extent_m
     half = mirrored_extent(case)
     upper_end = half if half is not None else extent
-    breaks = case.start.breakpoints_m
-    breaks = breaks[breaks < upper_end * (1 - 1e-12)]
-    required = np.unique(np.concatenate([[0.0], breaks, [upper_end]]))
     h_max = extent / cells
+    breaks = _separated(case.start.breakpoints_m, upper_end, _MIN_GAP * h_max)
+    required = np.concatenate([[0.0], breaks, [upper_end]])
     features = list(breaks)
     if case.surface.kind is not SurfaceKind.NO_FLUX:
         if half is None:
@@ -96,6 +115,7 @@ def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> Floa
     h_min = min(h_max, _GRADING_CELLS * (diffusion_length_m or 0.0) / cells) if grade else h_max
     feature_array = np.asarray(features, dtype=float)
     faces = [np.zeros(1)]
+    total_cells = 0
     for lower, upper in pairwise(required.tolist()):
         x = np.linspace(lower, upper, _GRADING_SAMPLES)
         if grade:
@@ -114,6 +134,15 @@ def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> Floa
         inner = np.interp(targets, cumulative, x)
         inner[-1] = upper
         faces.append(inner)
+        total_cells += count
+        if total_cells > _MAX_CELLS:
+            raise NotApplicable(
+                f"the finite-volume grid would need more than {_MAX_CELLS} cells here (each "
+                "break of the start needs cells of its own, and very early times need fine "
+                "cells at the surface); use the series engine, a lower accuracy, fewer profile "
+                "points or later times",
+                "/engine",
+            )
     return np.concatenate(faces)
 
 
@@ -183,6 +212,11 @@ class FiniteVolumeEngine:
             keep = np.arange(rates.size) != int(np.argmin(rates))
             rates, amplitudes, mode_means = rates[keep], amplitudes[keep], mode_means[keep]
         rates = np.maximum(rates, 0.0)
+        if not rates[0] > _CONDITION_FLOOR * rates[-1]:
+            raise NumericalFailure(
+                "the finite-volume operator is too ill-conditioned for this "
+                "case's slowest mode; use the series engine"
+            )
 
         outer_factor = _boundary_factor(outer_kind, diffusivity / outer_gap, transfer)
         inner_factor = _boundary_factor(surface.kind, diffusivity / inner_gap, transfer)
@@ -232,7 +266,8 @@ class FiniteVolumeEngine:
         return conductances[kind]()
 
     def _cells(self, case: Case) -> int:
-        return max(_MIN_CELLS, math.ceil(_CELLS_PER_ROOT_ACCURACY / math.sqrt(case.accuracy)))
+        wanted = math.ceil(_CELLS_PER_ROOT_ACCURACY / math.sqrt(case.accuracy))
+        return min(_MAX_START_CELLS, max(_MIN_CELLS, wanted))
 
     def solution(self, case: Case, earliest_time_s: float) -> ModalSolution:
         """A grid at the accuracy asked, graded for the earliest time of interest."""
@@ -264,10 +299,16 @@ class FiniteVolumeEngine:
         length = self._grading(
             case, cells, math.sqrt(diffusivity * max(fine_crossing.time_s, floor_s))
         )
-        warnings: tuple[tuple[str, str], ...] = ()
+        error = math.inf
         for round_number in range(_MAX_ROUNDS):
             if round_number > 0 or length is not None:
-                fine_faces = build_mesh(case, cells, length)
+                try:
+                    refined_faces = build_mesh(case, cells, length)
+                except NotApplicable:
+                    if round_number == 0:
+                        raise
+                    return EngineRun(fine, fine_crossing, error, _capped())
+                fine_faces = refined_faces
                 fine = self.solution_on(case, fine_faces)
                 fine_crossing = search(fine, floor_s)
             coarse = self.solution_on(case, fine_faces[::2])
@@ -280,19 +321,22 @@ class FiniteVolumeEngine:
             if error <= case.accuracy:
                 return EngineRun(fine, fine_crossing, error)
             if cells >= _MAX_CELLS:
-                warnings = (
-                    (
-                        "resolution_capped",
-                        f"the finite-volume grid reached its cap of {_MAX_CELLS} cells before "
-                        f"the estimated error fell to the accuracy asked",
-                    ),
-                )
-                return EngineRun(fine, fine_crossing, error, warnings)
+                return EngineRun(fine, fine_crossing, error, _capped())
             growth = math.sqrt(error / (0.5 * case.accuracy)) * 1.1
             cells = min(_MAX_CELLS, max(cells + 8, math.ceil(cells * min(growth, 4.0))))
             if fine_crossing.time_s > 0:
                 length = self._grading(case, cells, math.sqrt(diffusivity * fine_crossing.time_s))
-        return EngineRun(fine, fine_crossing, error, warnings)
+        return EngineRun(fine, fine_crossing, error, _capped())
+
+
+def _capped() -> tuple[tuple[str, str], ...]:
+    return (
+        (
+            "resolution_capped",
+            f"the finite-volume refinement stopped (at most {_MAX_CELLS} "
+            f"cells, {_MAX_ROUNDS} rounds) before its estimated error fell to the accuracy asked",
+        ),
+    )
 
 
 def _grid_convergence_index(fine_s: float, coarse_s: float, coarsest_s: float) -> float:

@@ -321,3 +321,33 @@ def test_healthz(client: TestClient) -> None:
     response = client.get("/healthz")
     assert response.status_code == 200
     assert response.json()["status"] == "ok"
+
+
+def test_errors_profile_too_fine_for_finite_volume_names_engine(client: TestClient) -> None:
+    count = 1500
+    positions = [4e-3 * i / (count - 1) for i in range(count)]
+    values = [float(i % 5) for i in range(count)]
+    request = slab_request(
+        initial={"kind": "profile", "positions": positions, "values": values},
+        surface={"kind": "no_flux"},
+        criterion={"measure": "max_deviation", "tolerance": 0.05},
+        engine="finite_volume",
+    )
+    response = client.post("/v1/settling-time", json=request)
+    assert response.status_code == 422
+    assert response.json()["errors"][0]["pointer"] == "/engine"
+    # the series engine answers the same case
+    request["engine"] = "series"
+    assert client.post("/v1/settling-time", json=request).status_code == 200
+
+
+def test_errors_unrepresentable_biot_is_422_not_500(client: TestClient) -> None:
+    response = client.post(
+        "/v1/settling-time",
+        json=slab_request(
+            surface={"kind": "convective", "biot": 1e-300, "ambient": 1},
+            engine="finite_volume",
+            criterion={"measure": "mean_square_deviation", "tolerance": 0.01},
+        ),
+    )
+    assert response.status_code == 422

@@ -64,3 +64,10 @@ def test_history_time_count_needs_criterion(client: TestClient) -> None:
     request.pop("criterion")
     response = client.post("/v1/history", json=request)
     assert response.status_code == 422
+
+
+def test_history_refuses_times_before_the_resolved_range(client: TestClient) -> None:
+    # Fo = 1e-6 here is 1e-6 · (2 mm)² / 7.5e-10 m²/s ≈ 5.3 ms
+    response = client.post("/v1/history", json={**slab_request(), "times": [1.0, 1e-4]})
+    assert response.status_code == 422
+    assert response.json()["errors"][0]["pointer"] == "/times/1"
