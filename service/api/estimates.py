@@ -2,10 +2,10 @@
 
 from __future__ import annotations
 
-from fastapi import APIRouter
+from fastapi import APIRouter, Response
 
 from service.api.cases import to_case
-from service.api.deps import SolverDep, UnitsDep
+from service.api.deps import SolverDep, UnitsDep, json_response
 from service.api.problems import PROBLEM_RESPONSES
 from service.models import Method, SettlingRequest, SettlingResponse, WarningOut
 from service.solver import format_time
@@ -21,34 +21,36 @@ router = APIRouter(tags=["estimates"])
     responses=PROBLEM_RESPONSES,
     summary="Settling time of a slab, cylinder or sphere",
 )
-def settling_time(request: SettlingRequest, solver: SolverDep, units: UnitsDep) -> SettlingResponse:
+def settling_time(request: SettlingRequest, solver: SolverDep, units: UnitsDep) -> Response:
     """The earliest time after which the criterion holds for good, with every measure at that
     time, the method and its estimated error, and what was assumed."""
     translation = to_case(request, units)
     case = translation.case
     answer = solver.settle(case)
     rate = answer.slowest_excited_rate_per_s
-    return SettlingResponse(
-        time_s=answer.time_s,
-        time_text=format_time(answer.time_s),
-        time_definition=answer.definition,
-        fourier_number=answer.fourier_number,
-        characteristic_length_m=case.body.characteristic_length_m,
-        length_convention=case.body.length_convention,
-        final_value=answer.final_value,
-        slowest_rate_per_s=answer.slowest_rate_per_s,
-        slowest_excited_rate_per_s=rate,
-        time_constant_s=1.0 / rate,
-        measures=answer.measures,
-        method=Method(
-            engine=answer.engine,
-            path="eigen",
-            resolution=answer.resolution,
-            estimated_relative_error=answer.estimated_relative_error,
-        ),
-        biot=answer.biot,
-        interpreted_positions_m=translation.positions_m,
-        warnings=[WarningOut(code=code, message=message) for code, message in answer.warnings],
-        assumptions=answer.assumptions,
-        cautions=answer.cautions,
+    return json_response(
+        SettlingResponse(
+            time_s=answer.time_s,
+            time_text=format_time(answer.time_s),
+            time_definition=answer.definition,
+            fourier_number=answer.fourier_number,
+            characteristic_length_m=case.body.characteristic_length_m,
+            length_convention=case.body.length_convention,
+            final_value=answer.final_value,
+            slowest_rate_per_s=answer.slowest_rate_per_s,
+            slowest_excited_rate_per_s=rate,
+            time_constant_s=1.0 / rate,
+            measures=answer.measures,
+            method=Method(
+                engine=answer.engine,
+                path="eigen",
+                resolution=answer.resolution,
+                estimated_relative_error=answer.estimated_relative_error,
+            ),
+            biot=answer.biot,
+            interpreted_positions_m=translation.positions_m,
+            warnings=[WarningOut(code=code, message=message) for code, message in answer.warnings],
+            assumptions=answer.assumptions,
+            cautions=answer.cautions,
+        )
     )

@@ -2,10 +2,11 @@
 
 from __future__ import annotations
 
-from fastapi import APIRouter
+from fastapi import APIRouter, Response
 from pydantic import BaseModel
 
 from service import __version__
+from service.api.deps import json_response
 
 __all__ = ["router"]
 
@@ -18,5 +19,5 @@ class Health(BaseModel):
 
 
 @router.get("/healthz", response_model=Health, summary="Liveness")
-def healthz() -> Health:
-    return Health(status="ok", version=__version__)
+def healthz() -> Response:
+    return json_response(Health(status="ok", version=__version__))

@@ -2,10 +2,10 @@
 
 from __future__ import annotations
 
-from fastapi import APIRouter
+from fastapi import APIRouter, Response
 
 from service.api.cases import to_case
-from service.api.deps import SolverDep, UnitsDep
+from service.api.deps import SolverDep, UnitsDep, json_response
 from service.api.problems import PROBLEM_RESPONSES
 from service.models import HistoryRequest, HistoryResponse, Method, SnapshotOut
 from service.solver import CAUTIONS
@@ -21,21 +21,23 @@ router = APIRouter(tags=["history"])
     responses=PROBLEM_RESPONSES,
     summary="Measures and profiles over time",
 )
-def history(request: HistoryRequest, solver: SolverDep, units: UnitsDep) -> HistoryResponse:
+def history(request: HistoryRequest, solver: SolverDep, units: UnitsDep) -> Response:
     """Every defined measure at each time, and profile snapshots across the body."""
     translation = to_case(request, units)
     answer = solver.history(
         translation.case, request.times, request.time_count, request.snapshot_count
     )
-    return HistoryResponse(
-        times_s=answer.times_s,
-        measures=answer.measures,
-        snapshots=[
-            SnapshotOut(time_s=s.time_s, positions_m=s.positions_m, values=s.values)
-            for s in answer.snapshots
-        ],
-        final_value=answer.final_value,
-        method=Method(engine=answer.engine, path="eigen", resolution=answer.resolution),
-        interpreted_positions_m=translation.positions_m,
-        cautions=list(CAUTIONS),
+    return json_response(
+        HistoryResponse(
+            times_s=answer.times_s,
+            measures=answer.measures,
+            snapshots=[
+                SnapshotOut(time_s=s.time_s, positions_m=s.positions_m, values=s.values)
+                for s in answer.snapshots
+            ],
+            final_value=answer.final_value,
+            method=Method(engine=answer.engine, path="eigen", resolution=answer.resolution),
+            interpreted_positions_m=translation.positions_m,
+            cautions=list(CAUTIONS),
+        )
     )
