@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import time
+
 from fastapi import APIRouter, Response
 
 from service.api.cases import to_case
@@ -24,9 +26,11 @@ router = APIRouter(tags=["estimates"])
 def settling_time(request: SettlingRequest, solver: SolverDep, units: UnitsDep) -> Response:
     """The earliest time after which the criterion holds for good, with every measure at that
     time, the method and its estimated error, and what was assumed."""
+    started = time.perf_counter()
     translation = to_case(request, units)
     case = translation.case
     answer = solver.settle(case)
+    elapsed = time.perf_counter() - started
     rate = answer.slowest_excited_rate_per_s
     return json_response(
         SettlingResponse(
@@ -52,5 +56,6 @@ def settling_time(request: SettlingRequest, solver: SolverDep, units: UnitsDep) 
             warnings=[WarningOut(code=code, message=message) for code, message in answer.warnings],
             assumptions=answer.assumptions,
             cautions=answer.cautions,
-        )
+        ),
+        elapsed,
     )

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import time
+
 from fastapi import APIRouter, Response
 
 from service.api.cases import to_case
@@ -23,10 +25,12 @@ router = APIRouter(tags=["history"])
 )
 def history(request: HistoryRequest, solver: SolverDep, units: UnitsDep) -> Response:
     """Every defined measure at each time, and profile snapshots across the body."""
+    started = time.perf_counter()
     translation = to_case(request, units)
     answer = solver.history(
         translation.case, request.times, request.time_count, request.snapshot_count
     )
+    elapsed = time.perf_counter() - started
     return json_response(
         HistoryResponse(
             times_s=answer.times_s,
@@ -39,5 +43,6 @@ def history(request: HistoryRequest, solver: SolverDep, units: UnitsDep) -> Resp
             method=Method(engine=answer.engine, path="eigen", resolution=answer.resolution),
             interpreted_positions_m=translation.positions_m,
             cautions=list(CAUTIONS),
-        )
+        ),
+        elapsed,
     )
