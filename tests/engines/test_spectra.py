@@ -7,7 +7,7 @@ import pytest
 from scipy import special
 
 from service.engines.series import SeriesEngine
-from service.engines.spectra import roots, slowest_wavenumber
+from service.engines.spectra import FAMILIES, roots, slowest_wavenumber
 from service.physics import Geometry, SurfaceKind
 from tests.factories import make_case
 from tests.references import (
@@ -97,3 +97,28 @@ def test_slowest_wavenumber_sealed_bodies_match_published_values() -> None:
         assert slowest_wavenumber(geometry, SurfaceKind.NO_FLUX, 0.0) == pytest.approx(
             reference.value, abs=reference.tolerance
         )
+
+
+@pytest.mark.parametrize("geometry", [Geometry.SLAB, Geometry.CYLINDER, Geometry.SPHERE])
+def test_moments_match_adaptive_quadrature(geometry: Geometry) -> None:
+    # ∫_a^b ξ^j φ(ζξ) ξ^m dξ, closed forms and power series, against scipy.integrate.quad.
+    from scipy import integrate
+
+    for family in FAMILIES[geometry]:
+        zeta = np.array([1e-4, 0.3, 2.0, 7.7, 40.0, 400.0])
+        lower = np.array([family.lower, 0.1, 0.6])
+        upper = np.array([0.2, 0.5, 1.0])
+        m0, m1 = family.moments(zeta, lower, upper)
+        for i in range(lower.size):
+            for k, z in enumerate(zeta):
+                for power, computed in ((0, m0[i, k]), (1, m1[i, k])):
+                    expected = integrate.quad(
+                        lambda x, z=z, power=power: (
+                            x**power * family.phi(np.array(z * x)) * x**family.weight_power
+                        ),
+                        lower[i],
+                        upper[i],
+                        epsabs=1e-14,
+                        limit=500,
+                    )[0]
+                    assert computed == pytest.approx(expected, abs=1e-12)
