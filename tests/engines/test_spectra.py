@@ -113,8 +113,8 @@ def test_moments_match_adaptive_quadrature(geometry: Geometry) -> None:
             for k, z in enumerate(zeta):
                 for power, computed in ((0, m0[i, k]), (1, m1[i, k])):
                     expected = integrate.quad(
-                        lambda x, z=z, power=power: (
-                            x**power * family.phi(np.array(z * x)) * x**family.weight_power
+                        lambda x, z=z, power=power, f=family: (
+                            x**power * f.phi(np.array(z * x)) * x**f.weight_power
                         ),
                         lower[i],
                         upper[i],
