@@ -115,8 +115,16 @@ def _last_crossing(measure: Measure, floor_s: float) -> Crossing:
         upper_times.extend(times.tolist())
         upper_values.extend(values.tolist())
         current = float(times[-1])
+    # met at every sample: a maximum between samples may still break through or nearly touch
+    checked = _check_tangents(measure, floor_s, upper_times, upper_values)
+    if checked.time_s > floor_s:
+        return checked
     return Crossing(
-        time_s=floor_s, definition="last_crossing", hit_floor=True, holds_throughout=True
+        time_s=floor_s,
+        definition="last_crossing",
+        hit_floor=True,
+        near_tangent=checked.near_tangent,
+        holds_throughout=True,
     )
 
 
@@ -129,20 +137,23 @@ def _check_tangents(
     order = np.argsort(t)
     t, v = t[order], v[order]
     near = False
-    for i in range(1, t.size - 1):
-        if not (v[i] >= v[i - 1] and v[i] >= v[i + 1]):
+    last = t.size - 1
+    for i in range(1, t.size):
+        # the latest sample counts too: the measure never increases after it
+        right = min(i + 1, last)
+        if not (v[i] >= v[i - 1] and v[i] >= v[right]):
             continue
         if v[i] < (1 - _TANGENT_FRACTION) * measure.level:
             continue
         found = optimize.minimize_scalar(
             lambda log_t: -measure.value(math.exp(log_t)),
-            bounds=(math.log(t[i - 1]), math.log(t[i + 1])),
+            bounds=(math.log(t[i - 1]), math.log(t[right])),
             method="bounded",
             options={"xatol": 1e-10},
         )
         peak_time = math.exp(float(found.x))
-        if -float(found.fun) > measure.level:
-            later = _root(measure, peak_time, float(t[i + 1]))
+        if -float(found.fun) > measure.level and peak_time < t[right]:
+            later = _root(measure, peak_time, float(t[right]))
             answer_s = max(answer_s, later)
         else:
             near = True

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from dataclasses import replace
+
 import numpy as np
 import pytest
 
@@ -171,3 +173,32 @@ def test_measure_monotone_region_holds_after_bound(solver: Solver) -> None:
 )
 def test_format_time_gives_three_significant_figures(seconds: float, text: str) -> None:
     assert format_time(seconds) == text
+
+
+def _peak_at_point(case: Case) -> float:
+    solution = SeriesEngine().solution(case, 1e-4)
+    times = np.geomspace(1e-3, 20.0, 20000)
+    return float(np.max(np.abs(solution.values_at(np.array([1.2]), times)[:, 0])))
+
+
+def test_settling_warns_near_tangent_when_peak_just_below_tolerance(solver: Solver) -> None:
+    # The watched point's deviation rises to a peak and falls; with the tolerance 1 % above
+    # the peak the criterion always holds, but only just: time 0 with a near_tangent warning.
+    base = _rise_then_fall_case()
+    peak = _peak_at_point(base)
+    criterion = Criterion("value_at", position_m=1.2, absolute_tolerance=1.01 * peak)
+    answer = solver.settle(replace(base, criterion=criterion))
+    codes = [code for code, _ in answer.warnings]
+    assert answer.time_s == 0.0
+    assert "near_tangent" in codes
+
+
+def test_settling_peak_just_above_tolerance_is_a_crossing(solver: Solver) -> None:
+    base = _rise_then_fall_case()
+    peak = _peak_at_point(base)
+    criterion = Criterion("value_at", position_m=1.2, absolute_tolerance=0.999 * peak)
+    answer = solver.settle(replace(base, criterion=criterion))
+    assert answer.time_s > 0.0
+    solution = SeriesEngine().solution(base, 1e-4)
+    value = abs(solution.values_at(np.array([1.2]), np.array([answer.time_s]))[0, 0])
+    assert value == pytest.approx(0.999 * peak, rel=1e-8)
