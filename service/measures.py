@@ -55,6 +55,12 @@ EXCITED_FRACTION = 1e-12
 # The fraction equilibrated is undefined when the amount changes by less than this
 # fraction of the amount scale.
 AMOUNT_FRACTION = 1e-9
+# The monotone-from bound is sought on a geometric grid of times: this ratio between grid
+# times (the bound may be this much later than the exact one), this many per batch, and at
+# most this many batches (a span of 1e25 from the floor).
+_BOUND_RATIO = 1.05
+_BOUND_BATCH = 64
+_BOUND_BATCHES = 19
 # A start closer than this (relative) to its final state has nothing to settle.
 SETTLED_FRACTION = 1e-12
 
@@ -367,9 +373,10 @@ class _SignedSum(Measure):
         return tail.sup / self._scale()
 
     def settled_after_s(self, floor_s: float) -> float:
-        """Earliest t at which the slowest seen mode's term outweighs all others and their
-        derivatives: Σ_{k>1} λ_k|c_k| e^{−(λ_k−λ_1)t} < λ_1|c_1|. From then on the sum keeps the
-        sign of c_1 and its magnitude falls, so the measure is monotone."""
+        """A time (at most 5 % after the earliest) at which the slowest seen mode's term
+        outweighs all others and their derivatives: Σ_{k>1} λ_k|c_k| e^{−(λ_k−λ_1)t} < λ_1|c_1|.
+        From then on the sum keeps the sign of c_1 and its magnitude falls, so the measure is
+        monotone."""
         coefficients = self._coefficients()
         rates = self.solution.rates_per_s
         size = np.abs(coefficients)
@@ -383,21 +390,18 @@ class _SignedSum(Measure):
             return floor_s
         gaps = rates[rest] - rates[lead]
         weights = rates[rest] * size[rest]
-
-        def excess(log_t: float) -> float:
-            return float(np.log(np.sum(weights * np.exp(-gaps * math.exp(log_t))))) - math.log(
-                target
-            )
-
-        low = math.log(floor_s)
-        if excess(low) < 0:
-            return floor_s
-        high = low
-        while excess(high) >= 0:
-            high += math.log(4.0)
-            if high - low > 200:
-                return math.exp(high)
-        return math.exp(optimize.brentq(excess, low, high, xtol=1e-6))
+        # Σ w_k e^{−g_k t} falls with t; search a geometric grid of times in vectorised
+        # batches and take the first grid time where it is below the target (any later time
+        # is as valid a bound)
+        low = floor_s
+        for _ in range(_BOUND_BATCHES):
+            grid = low * _BOUND_RATIO ** np.arange(_BOUND_BATCH)
+            excess = np.exp(-np.outer(grid, gaps)) @ weights
+            below = np.flatnonzero(excess < target)
+            if below.size:
+                return float(grid[below[0]])
+            low = float(grid[-1]) * _BOUND_RATIO
+        return low
 
 
 class ValueAt(_SignedSum):

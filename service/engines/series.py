@@ -87,15 +87,26 @@ class _ModeTable:
     zeta: FloatArray
     root_norm: FloatArray
     mean: FloatArray
+    samples: FloatArray
 
     @classmethod
-    def of(cls, family: ModeFamily, zeta: FloatArray) -> _ModeTable:
+    def of(cls, family: ModeFamily, zeta: FloatArray, samples: int) -> _ModeTable:
+        """The table for ``zeta``, with ψ at ``samples`` points evenly spread over the family's
+        coordinate (the same for every body size, so it is cached with the eigenvalues)."""
         root_norm = np.sqrt(family.norm(zeta))
         whole, _ = family.moments(zeta, np.array([family.lower]), np.array([1.0]))
-        return cls(zeta, root_norm, whole[0] / family.body_measure / root_norm)
+        xi = np.linspace(family.lower, 1.0, samples)
+        return cls(
+            zeta,
+            root_norm,
+            whole[0] / family.body_measure / root_norm,
+            family.values(zeta, xi) / root_norm,
+        )
 
     def head(self, count: int) -> _ModeTable:
-        return _ModeTable(self.zeta[:count], self.root_norm[:count], self.mean[:count])
+        return _ModeTable(
+            self.zeta[:count], self.root_norm[:count], self.mean[:count], self.samples[:, :count]
+        )
 
 
 class SeriesEngine:
@@ -123,7 +134,9 @@ class SeriesEngine:
                 self._tables.move_to_end(key)
                 return cached.head(count)
         size = max(count, 2 * (cached.zeta.size if cached is not None else 0))
-        table = _ModeTable.of(family, family.roots[surface.kind](size, biot))
+        table = _ModeTable.of(
+            family, family.roots[surface.kind](size, biot), _SAMPLES[case.body.geometry]
+        )
         with self._lock:
             self._tables[key] = table
             while len(self._tables) > _CACHE_SIZE:
@@ -165,7 +178,7 @@ class SeriesEngine:
         slope = (start.v1 - start.v0) / (xi1 - xi0)
         intercept = (start.v0 - final) - slope * xi0
 
-        zetas, amplitudes, means, norms, owners = [], [], [], [], []
+        zetas, amplitudes, means, norms, owners, sampled = [], [], [], [], [], []
         tails: list[tuple[float, float, float, float]] = []
         for index, family in enumerate(FAMILIES[body.geometry]):
             table = self._modes(case, index, family, count)
@@ -176,6 +189,7 @@ class SeriesEngine:
             zetas.append(zeta)
             amplitudes.append(amplitude)
             means.append(table.mean)
+            sampled.append(table.samples)
             norms.append(root_norm)
             owners.append(np.full(zeta.size, index))
             last = slice(zeta.size // 2, None)
@@ -229,6 +243,7 @@ class SeriesEngine:
             slowest_rate_per_s=diffusivity
             * (float(np.min(zeta_sorted[zeta_sorted > 0])) / length) ** 2,
             tail=tail,
+            precomputed_sample_basis=np.concatenate(sampled, axis=1)[:, order],
         )
 
     def settle(
