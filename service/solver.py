@@ -128,6 +128,50 @@ def _three_figures(value: float) -> str:
     return f"{value:.2e}"
 
 
+def _interpret(
+    crossing: Crossing, measure: Measure, case: Case
+) -> tuple[float, list[tuple[str, str]]]:
+    """The reported time and the warnings a crossing calls for."""
+    warnings: list[tuple[str, str]] = []
+    time_s = crossing.time_s
+    if crossing.hit_floor:
+        # met throughout the search, and either at the start too or so far below its level
+        # at the earliest time searched that it is met from t → 0 (a point on a held surface)
+        if crossing.holds_throughout and (
+            measure.initial_value() <= measure.level
+            or measure.value(crossing.time_s) <= IMMEDIATE_FRACTION * measure.level
+        ):
+            time_s = 0.0
+            warnings.append(("settles_immediately", WARNING_CODES["settles_immediately"]))
+        else:
+            warnings.append(
+                ("settles_before_resolved_time", WARNING_CODES["settles_before_resolved_time"])
+            )
+    if crossing.near_tangent:
+        warnings.append(("near_tangent", WARNING_CODES["near_tangent"]))
+    if case.surface.kind is SurfaceKind.CONVECTIVE:
+        classical = (
+            case.surface.biot * case.body.volume_to_area_m / case.body.characteristic_length_m
+        )
+        if classical < LUMPED_BIOT:
+            warnings.append(
+                (
+                    "lumped_would_do",
+                    f"the classical Biot number on V/A is {classical:.3g}, below {LUMPED_BIOT}: a "
+                    "lumped (uniform-body) model would give nearly the same time",
+                )
+            )
+    return time_s, warnings
+
+
+def _assumptions(case: Case, facts: Facts) -> list[str]:
+    assumptions = list(_ASSUMPTIONS)
+    if case.surface.kind is SurfaceKind.NO_FLUX and case.body.geometry is not Geometry.SLAB:
+        assumptions.append(_RADIAL_SEALED)
+    assumptions.append(f"The final state is uniform at {facts.final_value:.6g}.")
+    return assumptions
+
+
 def _finite(value: float) -> float | None:
     return value if math.isfinite(value) else None
 
@@ -195,45 +239,15 @@ class Solver:
             ) from exc
         crossing = run.crossing
         measure = measure_on(run.solution)
-        warnings = list(run.warnings)
-        time_s = crossing.time_s
-        if crossing.hit_floor:
-            # met throughout the search, and either at the start too or so far below its level
-            # at the earliest time searched that it is met from t → 0 (a point on a held surface)
-            if crossing.holds_throughout and (
-                measure.initial_value() <= measure.level
-                or measure.value(crossing.time_s) <= IMMEDIATE_FRACTION * measure.level
-            ):
-                time_s = 0.0
-                warnings.append(("settles_immediately", WARNING_CODES["settles_immediately"]))
-            else:
-                warnings.append(
-                    ("settles_before_resolved_time", WARNING_CODES["settles_before_resolved_time"])
-                )
-        if crossing.near_tangent:
-            warnings.append(("near_tangent", WARNING_CODES["near_tangent"]))
-        biot = case.surface.biot if case.surface.kind is SurfaceKind.CONVECTIVE else None
-        if biot is not None:
-            classical = biot * case.body.volume_to_area_m / case.body.characteristic_length_m
-            if classical < LUMPED_BIOT:
-                warnings.append(
-                    (
-                        "lumped_would_do",
-                        f"the classical Biot number on V/A is {classical:.3g}, below "
-                        f"{LUMPED_BIOT}: a lumped (uniform-body) model would give "
-                        f"nearly the same time",
-                    )
-                )
+        time_s, warnings = _interpret(crossing, measure, case)
+        warnings = list(run.warnings) + warnings
 
         measured = defined_measures(case, facts, run.solution, criterion, measure)
         values: dict[str, float | None] = {}
         for name, each in measured.items():
             values[name] = _finite(each.reported(time_s) if time_s > 0 else each.initial_value())
         excited = slowest_excited_rate(run.solution)
-        assumptions = list(_ASSUMPTIONS)
-        if case.surface.kind is SurfaceKind.NO_FLUX and case.body.geometry is not Geometry.SLAB:
-            assumptions.append(_RADIAL_SEALED)
-        assumptions.append(f"The final state is uniform at {facts.final_value:.6g}.")
+        biot = case.surface.biot if case.surface.kind is SurfaceKind.CONVECTIVE else None
         return SettlingAnswer(
             time_s=time_s,
             definition=crossing.definition,
@@ -247,7 +261,7 @@ class Solver:
             estimated_relative_error=run.estimated_relative_error,
             biot=biot,
             warnings=warnings,
-            assumptions=assumptions,
+            assumptions=_assumptions(case, facts),
             cautions=list(CAUTIONS),
         )
 

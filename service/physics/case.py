@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from enum import IntEnum, StrEnum
 from functools import cached_property
 
@@ -200,7 +200,6 @@ class Case:
     criterion: Criterion | None = None
     accuracy: float = 1e-4
     engine: str = "auto"
-    notes: tuple[str, ...] = field(default=())
 
     @property
     def body_weight(self) -> float:
