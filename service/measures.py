@@ -312,6 +312,19 @@ class MaxDeviation(Measure):
     def initial_value(self) -> float:
         return 1.0
 
+    def guess_s(self) -> float:
+        """Where the slowest excited mode alone, at its largest, would reach the level."""
+        solution = self.solution
+        rate = _slowest_excited_rate(solution)
+        lead = int(np.argmax(solution.rates_per_s >= rate))
+        peak = abs(solution.amplitudes[lead]) * float(
+            np.max(np.abs(solution.sample_basis[:, lead]))
+        )
+        ratio = peak / self.facts.max_abs_start / self.level
+        if not rate > 0:
+            return super().guess_s()
+        return max(math.log(max(ratio, 1.0 + 1e-9)) / rate, 1e-300)
+
     def truncation(self, tail: TailBound) -> float:
         return tail.sup / self.facts.max_abs_start
 

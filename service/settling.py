@@ -32,6 +32,8 @@ _CHUNK = 32
 _TANGENT_FRACTION = 0.05
 # Relative tolerance of every root-find (the engines add it to their error estimates).
 ROOT_RTOL = 1e-12
+# First bracket step around a time found on another grid (then squared at each step).
+_NEAR_STEP = 1.02
 # Values below this are taken as this in logarithms.
 _TINY = 1e-300
 # Bracket expansion: factor per step and the most steps before giving up.
@@ -39,10 +41,12 @@ _EXPAND = 2.0
 _MAX_EXPANSIONS = 2000
 
 
-def find_settling_time(measure: Measure, floor_s: float) -> Crossing:
-    """Settling time of ``measure`` on its solution, searching no earlier than ``floor_s``."""
+def find_settling_time(measure: Measure, floor_s: float, near_s: float | None = None) -> Crossing:
+    """Settling time of ``measure`` on its solution, searching no earlier than ``floor_s``;
+    ``near_s``, a time close to the answer (found on another grid), narrows the bracket of
+    a monotone measure."""
     if measure.is_monotone:
-        return _monotone(measure, floor_s)
+        return _monotone(measure, floor_s, near_s)
     return _last_crossing(measure, floor_s)
 
 
@@ -78,15 +82,23 @@ def _beyond(measure: Measure, start_s: float) -> float:
     raise NumericalFailure("the criterion is never met: the measure does not fall to the level")
 
 
-def _monotone(measure: Measure, floor_s: float) -> Crossing:
+def _monotone(measure: Measure, floor_s: float, near_s: float | None) -> Crossing:
     if _excess(measure, floor_s) <= 0:
         return Crossing(time_s=floor_s, definition="monotone", hit_floor=True)
-    guess = max(measure.guess_s(), floor_s)
+    factor = _NEAR_STEP if near_s else _EXPAND
+    guess = max(near_s or measure.guess_s(), floor_s)
     if _excess(measure, guess) > 0:
-        return Crossing(_beyond(measure, guess), "monotone", hit_floor=False)
-    upper, lower = guess, guess / _EXPAND
+        lower, upper = guess, guess * factor
+        for _ in range(_MAX_EXPANSIONS):
+            if _excess(measure, upper) <= 0:
+                return Crossing(_root(measure, lower, upper), "monotone", hit_floor=False)
+            factor = min(factor * factor, _EXPAND)
+            lower, upper = upper, upper * factor
+        raise NumericalFailure("the criterion is never met: the measure does not fall to the level")
+    upper, lower = guess, guess / factor
     while lower > floor_s and _excess(measure, lower) <= 0:
-        upper, lower = lower, lower / _EXPAND
+        factor = min(factor * factor, _EXPAND)
+        upper, lower = lower, lower / factor
     return Crossing(_root(measure, max(lower, floor_s), upper), "monotone", hit_floor=False)
 
 

@@ -217,8 +217,8 @@ class Solver:
                 built[id(solution)] = entry
             return entry[1]
 
-        def search(solution: ModalSolution, floor_s: float) -> Crossing:
-            return find_settling_time(measure_on(solution), floor_s)
+        def search(solution: ModalSolution, floor_s: float, near_s: float | None) -> Crossing:
+            return find_settling_time(measure_on(solution), floor_s, near_s)
 
         def truncation_error(solution: ModalSolution, time_s: float) -> float:
             if solution.tail is None or time_s <= 0:

@@ -120,7 +120,8 @@ class Engine(Protocol):
     def settle(
         self,
         case: Case,
-        search: Callable[[ModalSolution, float], Crossing],
+        search: Callable[[ModalSolution, float, float | None], Crossing],
         truncation_error: Callable[[ModalSolution, float], float],
     ) -> EngineRun:
-        """Refine until the crossing ``search`` finds is accurate to ``case.accuracy``."""
+        """Refine until the crossing ``search`` finds is accurate to ``case.accuracy``;
+        ``search(solution, floor_s, near_s)`` may be told a time near the answer."""

@@ -285,7 +285,7 @@ class FiniteVolumeEngine:
     def settle(
         self,
         case: Case,
-        search: Callable[[ModalSolution, float], Crossing],
+        search: Callable[[ModalSolution, float, float | None], Crossing],
         truncation_error: Callable[[ModalSolution, float], float],
     ) -> EngineRun:
         """Refine the grid until its grid convergence index meets the accuracy asked; the two
@@ -295,7 +295,7 @@ class FiniteVolumeEngine:
         cells = self._cells(case)
         fine_faces = build_mesh(case, cells, None)
         fine = self.solution_on(case, fine_faces)
-        fine_crossing = search(fine, floor_s)
+        fine_crossing = search(fine, floor_s, None)
         length = self._grading(
             case, cells, math.sqrt(diffusivity * max(fine_crossing.time_s, floor_s))
         )
@@ -310,11 +310,11 @@ class FiniteVolumeEngine:
                     return EngineRun(fine, fine_crossing, error, _capped())
                 fine_faces = refined_faces
                 fine = self.solution_on(case, fine_faces)
-                fine_crossing = search(fine, floor_s)
+                fine_crossing = search(fine, floor_s, fine_crossing.time_s)
             coarse = self.solution_on(case, fine_faces[::2])
-            coarse_crossing = search(coarse, floor_s)
+            coarse_crossing = search(coarse, floor_s, fine_crossing.time_s)
             coarsest = self.solution_on(case, fine_faces[::4])
-            coarsest_crossing = search(coarsest, floor_s)
+            coarsest_crossing = search(coarsest, floor_s, coarse_crossing.time_s)
             error = _grid_convergence_index(
                 fine_crossing.time_s, coarse_crossing.time_s, coarsest_crossing.time_s
             )

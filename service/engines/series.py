@@ -249,7 +249,7 @@ class SeriesEngine:
     def settle(
         self,
         case: Case,
-        search: Callable[[ModalSolution, float], Crossing],
+        search: Callable[[ModalSolution, float, float | None], Crossing],
         truncation_error: Callable[[ModalSolution, float], float],
     ) -> EngineRun:
         """Search on successively longer expansions until the crossing lies where the
@@ -258,7 +258,7 @@ class SeriesEngine:
         earliest = max(floor_s, _FIRST_FOURIER * case.diffusion_time_s)
         for _ in range(12):
             solution = self.solution(case, earliest)
-            crossing = search(solution, max(floor_s, solution.valid_from_s))
+            crossing = search(solution, max(floor_s, solution.valid_from_s), None)
             if crossing.hit_floor and solution.valid_from_s > floor_s * (1 + 1e-9):
                 earliest = max(floor_s, solution.valid_from_s / _REACH_FACTOR)
                 continue
