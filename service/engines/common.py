@@ -62,14 +62,14 @@ class ModalSolution:
     valid_from_s: float
     slowest_rate_per_s: float
     tail: Callable[[float], TailBound] | None = None
-    precomputed_sample_basis: FloatArray | None = None
+    sample_basis_of: Callable[[], FloatArray] | None = None
 
     @cached_property
     def sample_basis(self) -> FloatArray:
-        """ψ_k at the sample positions: precomputed by the engine, or computed on first use
-        (only the largest-deviation measure and profiles need it)."""
-        if self.precomputed_sample_basis is not None:
-            return self.precomputed_sample_basis
+        """ψ_k at the sample positions, made on first use (only the largest-deviation measure
+        and profiles need it) by the engine's own shortcut or by ``basis_at``."""
+        if self.sample_basis_of is not None:
+            return self.sample_basis_of()
         return self.basis_at(self.sample_positions_m)
 
     def decay(self, times_s: FloatArray) -> FloatArray:

@@ -223,9 +223,12 @@ class FiniteVolumeEngine:
         extent = body.extent_m
         cell_modes: list[FloatArray] = []
 
-        def basis_at(positions_m: FloatArray) -> FloatArray:
+        def modes_in_cells() -> FloatArray:
             if not cell_modes:
                 cell_modes.append(vectors[:, keep] * (root_total / root_volume)[:, None])
+            return cell_modes[0]
+
+        def basis_at(positions_m: FloatArray) -> FloatArray:
             positions = np.asarray(positions_m, dtype=float)
             if is_mirrored:
                 positions = np.minimum(positions, extent - positions)
@@ -233,10 +236,15 @@ class FiniteVolumeEngine:
                 positions,
                 faces,
                 centres,
-                cell_modes[0],
+                modes_in_cells(),
                 inner_factor if is_slab else None,
                 outer_factor,
             )
+
+        def sample_basis() -> FloatArray:
+            # the samples are the cell centres (and, past a symmetry face, the last one again)
+            modes = modes_in_cells()
+            return np.vstack([modes, modes[-1:]]) if is_mirrored else modes
 
         return ModalSolution(
             engine=self.name,
@@ -252,6 +260,7 @@ class FiniteVolumeEngine:
             valid_from_s=0.0,
             slowest_rate_per_s=float(rates[0]),
             tail=None,
+            sample_basis_of=sample_basis,
         )
 
     @staticmethod

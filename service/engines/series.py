@@ -243,7 +243,7 @@ class SeriesEngine:
             slowest_rate_per_s=diffusivity
             * (float(np.min(zeta_sorted[zeta_sorted > 0])) / length) ** 2,
             tail=tail,
-            precomputed_sample_basis=np.concatenate(sampled, axis=1)[:, order],
+            sample_basis_of=lambda: np.concatenate(sampled, axis=1)[:, order],
         )
 
     def settle(
