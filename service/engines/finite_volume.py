@@ -322,11 +322,14 @@ class FiniteVolumeEngine:
                 fine_crossing = search(fine, floor_s, fine_crossing.time_s)
             coarse = self.solution_on(case, fine_faces[::2])
             coarse_crossing = search(coarse, floor_s, fine_crossing.time_s)
-            coarsest = self.solution_on(case, fine_faces[::4])
-            coarsest_crossing = search(coarsest, floor_s, coarse_crossing.time_s)
-            error = _grid_convergence_index(
-                fine_crossing.time_s, coarse_crossing.time_s, coarsest_crossing.time_s
-            )
+            # the unconfirmed-order index first; a third grid only when it falls short
+            error = _grid_convergence_index(fine_crossing.time_s, coarse_crossing.time_s, None)
+            if error > case.accuracy:
+                coarsest = self.solution_on(case, fine_faces[::4])
+                coarsest_crossing = search(coarsest, floor_s, coarse_crossing.time_s)
+                error = _grid_convergence_index(
+                    fine_crossing.time_s, coarse_crossing.time_s, coarsest_crossing.time_s
+                )
             if error <= case.accuracy:
                 return EngineRun(fine, fine_crossing, error)
             if cells >= _MAX_CELLS:
@@ -348,20 +351,23 @@ def _capped() -> tuple[tuple[str, str], ...]:
     )
 
 
-def _grid_convergence_index(fine_s: float, coarse_s: float, coarsest_s: float) -> float:
-    """Estimated relative error of the fine-grid time from three nested grids (cell size
-    ratio 2): Roache's grid convergence index F_s·|t_f − t_c|/((2² − 1)·t_f), with F_s = 1.25
-    when the observed order log2(|t_c − t_cc|/|t_f − t_c|) confirms second order (within
-    1.5..2.5) and F_s = 3 otherwise (P. J. Roache, J. Fluids Eng. 116 (1994) 405; from memory).
-    """
+def _grid_convergence_index(fine_s: float, coarse_s: float, coarsest_s: float | None) -> float:
+    """Estimated relative error of the fine-grid time from nested grids (cell size ratio 2):
+    Roache's grid convergence index F_s·|t_f − t_c|/((2² − 1)·t_f), with F_s = 1.25 when a
+    third grid confirms second order (observed order log2(|t_c − t_cc|/|t_f − t_c|) within
+    1.5..2.5) and F_s = 3 otherwise, or without a third grid (P. J. Roache, J. Fluids Eng. 116
+    (1994) 405; from memory)."""
     if fine_s <= 0.0:
         return 0.0 if fine_s == coarse_s else math.inf
     difference = abs(fine_s - coarse_s)
     if difference == 0.0:
         return 0.0
-    previous = abs(coarse_s - coarsest_s)
-    order = math.log2(previous / difference) if previous > 0 else 0.0
-    safety = _SAFETY_CONFIRMED if _ORDER_BAND[0] <= order <= _ORDER_BAND[1] else _SAFETY
+    safety = _SAFETY
+    if coarsest_s is not None:
+        previous = abs(coarse_s - coarsest_s)
+        order = math.log2(previous / difference) if previous > 0 else 0.0
+        if _ORDER_BAND[0] <= order <= _ORDER_BAND[1]:
+            safety = _SAFETY_CONFIRMED
     return safety * difference / 3.0 / fine_s
 
 
