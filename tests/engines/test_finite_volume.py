@@ -138,3 +138,45 @@ def test_finite_volume_half_slab_equals_whole_slab(kind: SurfaceKind) -> None:
         for faces in (half_faces, whole_faces)
     ]
     assert times[0] == pytest.approx(times[1], rel=1e-10)
+
+
+def test_three_grid_estimate_extrapolates_a_second_order_sequence() -> None:
+    # t(h) = T + C2·h² + C4·h⁴ on grids h, 2h, 4h: the Richardson value has error −4·C4·h⁴,
+    # and the estimate is the safety factor 3 times that error (exact algebra, not a tuned value).
+    from service.engines.finite_volume import _three_grid_estimate
+
+    exact, c2, c4, h = 10.0, 0.5, 0.3, 0.05
+
+    def time_on(size: float) -> float:
+        return exact + c2 * size**2 + c4 * size**4
+
+    reported, error, order = _three_grid_estimate(time_on(h), time_on(2 * h), time_on(4 * h))
+    assert order == 4
+    assert reported - exact == pytest.approx(-4 * c4 * h**4, rel=1e-6)
+    assert error == pytest.approx(3 * 4 * c4 * h**4 / reported, rel=1e-6)
+
+
+def test_three_grid_estimate_falls_back_without_second_order() -> None:
+    from service.engines.finite_volume import _three_grid_estimate
+
+    # first-order convergence (differences halve): the fine time with a grid convergence index
+    reported, error, order = _three_grid_estimate(10.1, 10.2, 10.4)
+    assert (reported, order) == (10.1, 2)
+    assert error == pytest.approx(3 * 0.1 / 3 / 10.1)
+
+
+@pytest.mark.parametrize("geometry", SHAPES)
+def test_finite_volume_meets_a_tight_accuracy(solver: Solver, geometry: Geometry) -> None:
+    criterion = Criterion("mean_square_deviation", tolerance=0.01)
+    exact = solver.settle(make_case(geometry, SurfaceKind.CONVECTIVE, criterion=criterion)).time_s
+    answer = solver.settle(
+        make_case(
+            geometry,
+            SurfaceKind.CONVECTIVE,
+            criterion=criterion,
+            engine="finite_volume",
+            accuracy=1e-7,
+        )
+    )
+    assert answer.estimated_relative_error <= 1e-7
+    assert abs(answer.time_s / exact - 1) <= 1e-7
