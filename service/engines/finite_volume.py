@@ -167,8 +167,11 @@ class FiniteVolumeEngine:
     def check(self, case: Case) -> None:
         """Every case of this service can be meshed."""
 
-    def solution_on(self, case: Case, faces: FloatArray) -> ModalSolution:
-        """The exact-in-time solution of the semi-discrete problem on ``faces``.
+    def solution_on(
+        self, case: Case, faces: FloatArray, amounts: FloatArray | None = None
+    ) -> ModalSolution:
+        """The exact-in-time solution of the semi-discrete problem on ``faces``; ``amounts``
+        (∫ c r^m over each cell) may be given when already known.
 
         Faces that end at half a mirror-symmetric slab get a symmetry (no-flux) face there;
         positions beyond it are read from their mirror images."""
@@ -207,7 +210,9 @@ class FiniteVolumeEngine:
             raise NumericalFailure(f"the finite-volume eigensolver failed: {exc}") from exc
 
         root_total = math.sqrt(float(np.sum(volumes)))
-        averages = case.start.moments(m, faces[:-1], faces[1:]) / volumes - case.final_value
+        if amounts is None:
+            amounts = case.start.moments(m, faces[:-1], faces[1:])
+        averages = amounts / volumes - case.final_value
         amplitudes = vectors.T @ (root_volume * averages) / root_total
         mode_means = vectors.T @ root_volume / root_total
         keep = slice(None)
@@ -308,8 +313,13 @@ class FiniteVolumeEngine:
         floor_s = FOURIER_FLOOR * case.diffusion_time_s
         diffusivity = case.medium.diffusivity_m2_per_s
         cells = self._cells(case)
+
+        def on_grid(faces: FloatArray) -> tuple[ModalSolution, FloatArray]:
+            amounts = case.start.moments(case.body.metric, faces[:-1], faces[1:])
+            return self.solution_on(case, faces, amounts), amounts
+
         fine_faces = build_mesh(case, cells, None)
-        fine = self.solution_on(case, fine_faces)
+        fine, amounts = on_grid(fine_faces)
         fine_crossing = search(fine, floor_s, None)
         length = self._grading(
             case, cells, math.sqrt(diffusivity * max(fine_crossing.time_s, floor_s))
@@ -324,11 +334,15 @@ class FiniteVolumeEngine:
                         raise
                     return EngineRun(fine, reported, error, _capped())
                 fine_faces = refined_faces
-                fine = self.solution_on(case, fine_faces)
+                fine, amounts = on_grid(fine_faces)
                 fine_crossing = search(fine, floor_s, fine_crossing.time_s)
-            coarse = self.solution_on(case, fine_faces[::2])
+            # nested grids: a coarse cell's amount is the sum of its two fine cells'
+            coarse_amounts = amounts.reshape(-1, 2).sum(axis=1)
+            coarse = self.solution_on(case, fine_faces[::2], coarse_amounts)
             coarse_crossing = search(coarse, floor_s, fine_crossing.time_s)
-            coarsest = self.solution_on(case, fine_faces[::4])
+            coarsest = self.solution_on(
+                case, fine_faces[::4], coarse_amounts.reshape(-1, 2).sum(axis=1)
+            )
             coarsest_crossing = search(coarsest, floor_s, coarse_crossing.time_s)
             time_s, error, order = _three_grid_estimate(
                 fine_crossing.time_s, coarse_crossing.time_s, coarsest_crossing.time_s
