@@ -53,8 +53,8 @@ _MAX_START_CELLS = 800
 # Grading: the smallest cell is this many diffusion lengths over the cell count, and
 # neighbouring cells grow by at most 1 + _GROWTH/cells. Grading starts when the diffusion
 # length at the answer is below _GRADE_BELOW of the body's extent.
-_GRADING_CELLS = 1.0
-_GROWTH = 4.0
+_GRADING_CELLS = 2.0
+_GROWTH = 8.0
 _GRADE_BELOW = 0.25
 # The slowest rate must exceed this fraction of the fastest for the eigenvalues to be trusted.
 _CONDITION_FLOOR = 1e-13
@@ -99,8 +99,8 @@ def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> Floa
     with faces on every break of the start.
 
     ``cells`` sets the spacing over the whole body. With ``diffusion_length_m`` the spacing is
-    graded: h(x) = min(h_max, h_min + g·dist), h_max = extent/cells, h_min = ℓ/cells,
-    g = 4/cells, dist the distance to the nearest exchanging surface or break. Without it the
+    graded: h(x) = min(h_max, h_min + g·dist), h_max = extent/cells, h_min = 2ℓ/cells,
+    g = 8/cells, dist the distance to the nearest exchanging surface or break. Without it the
     spacing is uniform (h_max)."""
     extent = case.body.extent_m
     half = mirrored_extent(case)
