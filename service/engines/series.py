@@ -109,6 +109,37 @@ class _ModeTable:
         )
 
 
+@dataclass(frozen=True)
+class _Spectrum:
+    """The first ``count`` modes of every family of a body, merged in ascending order: what a
+    query needs besides the projections of its own start."""
+
+    tables: tuple[_ModeTable, ...]
+    order: NDArray[np.intp]
+    zeta: FloatArray
+    owner: NDArray[np.intp]
+    root_norm: FloatArray
+    mean: FloatArray
+    samples: FloatArray
+    slowest_zeta: float
+
+    @classmethod
+    def of(cls, tables: tuple[_ModeTable, ...]) -> _Spectrum:
+        zeta = np.concatenate([table.zeta for table in tables])
+        order = np.argsort(zeta, kind="stable")
+        owner = np.concatenate([np.full(t.zeta.size, i) for i, t in enumerate(tables)])[order]
+        return cls(
+            tables=tables,
+            order=order,
+            zeta=zeta[order],
+            owner=owner,
+            root_norm=np.concatenate([t.root_norm for t in tables])[order],
+            mean=np.concatenate([t.mean for t in tables])[order],
+            samples=np.concatenate([t.samples for t in tables], axis=1)[:, order],
+            slowest_zeta=float(np.min(zeta[zeta > 0])),
+        )
+
+
 class SeriesEngine:
     """Exact eigen-expansions; eigenvalues cached by shape, surface kind and Biot number."""
 
@@ -117,6 +148,9 @@ class SeriesEngine:
     def __init__(self) -> None:
         self._lock = threading.Lock()
         self._tables: OrderedDict[tuple[Geometry, SurfaceKind, float, int], _ModeTable] = (
+            OrderedDict()
+        )
+        self._spectra: OrderedDict[tuple[Geometry, SurfaceKind, float, int], _Spectrum] = (
             OrderedDict()
         )
 
@@ -143,14 +177,29 @@ class SeriesEngine:
                 self._tables.popitem(last=False)
         return table.head(count)
 
+    def _spectrum(self, case: Case, count: int) -> _Spectrum:
+        """The merged first ``count`` modes of every family, cached like the tables."""
+        surface = case.surface
+        biot = surface.biot if surface.kind is SurfaceKind.CONVECTIVE else 0.0
+        key = (case.body.geometry, surface.kind, biot, count)
+        with self._lock:
+            cached = self._spectra.get(key)
+            if cached is not None:
+                self._spectra.move_to_end(key)
+                return cached
+        families = FAMILIES[case.body.geometry]
+        spectrum = _Spectrum.of(
+            tuple(self._modes(case, index, family, count) for index, family in enumerate(families))
+        )
+        with self._lock:
+            self._spectra[key] = spectrum
+            while len(self._spectra) > _CACHE_SIZE:
+                self._spectra.popitem(last=False)
+        return spectrum
+
     def slowest_wavenumber(self, case: Case) -> float:
         """The body's smallest non-zero ζ over all families (dimensionless, on Lc), cached."""
-        found = [
-            self._modes(case, index, family, 2).zeta
-            for index, family in enumerate(FAMILIES[case.body.geometry])
-        ]
-        candidates = np.concatenate(found)
-        return float(np.min(candidates[candidates > 0]))
+        return self._spectrum(case, 2).slowest_zeta
 
     def solution(self, case: Case, earliest_time_s: float) -> ModalSolution:
         """A truncated expansion whose left-out part is negligible for t ≥ earliest_time_s."""
@@ -178,20 +227,16 @@ class SeriesEngine:
         slope = (start.v1 - start.v0) / (xi1 - xi0)
         intercept = (start.v0 - final) - slope * xi0
 
-        zetas, amplitudes, means, norms, owners, sampled = [], [], [], [], [], []
+        spectrum = self._spectrum(case, count)
+        families = FAMILIES[body.geometry]
+        amplitudes = []
         tails: list[tuple[float, float, float, float]] = []
-        for index, family in enumerate(FAMILIES[body.geometry]):
-            table = self._modes(case, index, family, count)
+        for family, table in zip(families, spectrum.tables, strict=True):
             zeta, root_norm = table.zeta, table.root_norm
             m0, m1 = family.moments(zeta, xi0, xi1)
             projection = (intercept @ m0 + slope @ m1) / family.body_measure
             amplitude = np.where(zeta > 0, projection / root_norm, 0.0)
-            zetas.append(zeta)
             amplitudes.append(amplitude)
-            means.append(table.mean)
-            sampled.append(table.samples)
-            norms.append(root_norm)
-            owners.append(np.full(zeta.size, index))
             last = slice(zeta.size // 2, None)
             tails.append(
                 (
@@ -201,13 +246,9 @@ class SeriesEngine:
                     float(np.max(np.abs(amplitude[last]))),
                 )
             )
-
-        zeta_all = np.concatenate(zetas)
-        order = np.argsort(zeta_all, kind="stable")
-        zeta_sorted = zeta_all[order]
-        root_norm_all = np.concatenate(norms)[order]
-        owner_all = np.concatenate(owners)[order]
-        families = FAMILIES[body.geometry]
+        zeta_sorted = spectrum.zeta
+        root_norm_all = spectrum.root_norm
+        owner_all = spectrum.owner
 
         def basis_at(positions_m: FloatArray) -> FloatArray:
             xi = to_xi(np.asarray(positions_m, dtype=float))
@@ -234,16 +275,15 @@ class SeriesEngine:
             resolution=int(zeta_sorted.size),
             diffusivity_m2_per_s=diffusivity,
             rates_per_s=diffusivity * (zeta_sorted / length) ** 2,
-            amplitudes=np.concatenate(amplitudes)[order],
-            mode_means=np.concatenate(means)[order],
+            amplitudes=np.concatenate(amplitudes)[spectrum.order],
+            mode_means=spectrum.mean,
             basis_at=basis_at,
             sample_positions_m=samples,
             refine_max=True,
             valid_from_s=valid_from_s,
-            slowest_rate_per_s=diffusivity
-            * (float(np.min(zeta_sorted[zeta_sorted > 0])) / length) ** 2,
+            slowest_rate_per_s=diffusivity * (spectrum.slowest_zeta / length) ** 2,
             tail=tail,
-            sample_basis_of=lambda: np.concatenate(sampled, axis=1)[:, order],
+            sample_basis_of=lambda: spectrum.samples,
         )
 
     def settle(

@@ -164,7 +164,14 @@ class Start:
         return bool(np.all(np.abs(here - mirrored) <= 1e-12 * scale))
 
     def max_abs_deviation(self, reference: float) -> float:
-        return float(np.max(np.abs(np.r_[self.v0, self.v1] - reference)))
+        """Largest |c − reference| over the body (at a segment end, the profile being linear)."""
+        return max(abs(self.value_range[0] - reference), abs(self.value_range[1] - reference))
+
+    @cached_property
+    def value_range(self) -> tuple[float, float]:
+        """Smallest and largest start value."""
+        both = np.concatenate([self.v0, self.v1])
+        return float(np.min(both)), float(np.max(both))
 
     def signs(self) -> set[int]:
         return {int(s) for s in np.sign(np.r_[self.v0, self.v1]) if s != 0}
