@@ -34,6 +34,7 @@ from __future__ import annotations
 import math
 from abc import ABC, abstractmethod
 from dataclasses import dataclass
+from functools import cached_property
 from typing import ClassVar
 
 import numpy as np
@@ -378,9 +379,14 @@ class _SignedSum(Measure):
     def values(self, times_s: FloatArray) -> FloatArray:
         return np.abs(self.signed(times_s)) / self._scale()
 
+    @cached_property
+    def _scaled(self) -> tuple[FloatArray, FloatArray]:
+        """−λ_k and c_k/scale, for the scalar path of the search."""
+        return -self.solution.rates_per_s, self._coefficients() / self._scale()
+
     def value(self, time_s: float) -> float:
-        terms = np.exp(-self.solution.rates_per_s * time_s) @ self._coefficients()
-        return abs(float(terms)) / self._scale()
+        exponents, terms = self._scaled
+        return abs(float(np.exp(exponents * time_s) @ terms))
 
     def truncation(self, tail: TailBound) -> float:
         return tail.sup / self._scale()
