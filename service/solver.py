@@ -39,6 +39,10 @@ FloatArray = NDArray[np.float64]
 
 # The classical lumped-capacity rule: Bi on V/A below this and one number will do.
 LUMPED_BIOT = 0.1
+# Cases the API may answer on its event loop: series engine, a start of at most this many
+# pieces, an accuracy no tighter than this.
+QUICK_START_PIECES = 16
+QUICK_ACCURACY = 1e-8
 # A measure this far below its level at the earliest time searched is met from t → 0.
 IMMEDIATE_FRACTION = 1e-6
 # Positions across the body in each history snapshot.
@@ -199,6 +203,15 @@ class Solver:
                 exc.at("/engine")
             raise
         return engine
+
+    def is_quick(self, case: Case) -> bool:
+        """Whether ``case`` is answered by the series engine from a start of few pieces, which
+        takes well under a millisecond (a few milliseconds at most, for very early answers)."""
+        return (
+            case.engine in ("auto", "series")
+            and case.start.x0.size <= QUICK_START_PIECES
+            and case.accuracy >= QUICK_ACCURACY
+        )
 
     def settle(self, case: Case) -> SettlingAnswer:
         """The settling time of ``case`` under its criterion, with every measure at that time."""

@@ -202,3 +202,11 @@ def test_settling_peak_just_above_tolerance_is_a_crossing(solver: Solver) -> Non
     solution = SeriesEngine().solution(base, 1e-4)
     value = abs(solution.values_at(np.array([1.2]), np.array([answer.time_s]))[0, 0])
     assert value == pytest.approx(0.999 * peak, rel=1e-8)
+
+
+def test_solver_is_quick_only_for_small_series_cases(solver: Solver) -> None:
+    # the API answers these on its event loop and hands everything else to the thread pool
+    assert solver.is_quick(make_case(Geometry.SPHERE, start=off_centre_band(Geometry.SPHERE)))
+    assert not solver.is_quick(make_case(Geometry.SPHERE, engine="finite_volume"))
+    pieces = [(0.1 * i, 0.1 * (i + 1), float(i % 2), float(i % 2)) for i in range(20)]
+    assert not solver.is_quick(make_case(Geometry.SLAB, start=Start.from_pieces(pieces)))
