@@ -42,7 +42,7 @@ from numpy.typing import NDArray
 from scipy import optimize
 
 from service.engines import spectra
-from service.engines.common import ModalSolution, TailBound
+from service.engines.common import EXCITED_FRACTION, ModalSolution, TailBound
 from service.errors import InvalidInput, NumericalFailure
 from service.physics import Case, Criterion, SurfaceKind
 
@@ -50,9 +50,6 @@ __all__ = ["MEASURES", "Facts", "Measure", "build_measure", "defined_measures"]
 
 FloatArray = NDArray[np.float64]
 
-# A mode counts as excited (or seen by a measure) when its coefficient exceeds this
-# fraction of the largest.
-EXCITED_FRACTION = 1e-12
 # The fraction equilibrated is undefined when the amount changes by less than this
 # fraction of the amount scale.
 AMOUNT_FRACTION = 1e-9
@@ -191,9 +188,7 @@ class Measure(ABC):
 
 
 def _slowest_excited_rate(solution: ModalSolution) -> float:
-    amplitudes = np.abs(solution.amplitudes)
-    excited = amplitudes > EXCITED_FRACTION * float(np.max(amplitudes))
-    return float(solution.rates_per_s[np.argmax(excited)])
+    return solution.slowest_excited_rate_per_s
 
 
 def slowest_excited_rate(solution: ModalSolution) -> float:
@@ -387,6 +382,18 @@ class _SignedSum(Measure):
     def value(self, time_s: float) -> float:
         exponents, terms = self._scaled
         return abs(float(np.exp(exponents * time_s) @ terms))
+
+    def guess_s(self) -> float:
+        """Where the slowest seen term alone would reach the level."""
+        exponents, terms = self._scaled
+        size = np.abs(terms)
+        if not float(np.max(size)) > 0:
+            return super().guess_s()
+        lead = int(np.argmax(size > EXCITED_FRACTION * float(np.max(size))))
+        rate = -float(exponents[lead])
+        if not rate > 0:
+            return super().guess_s()
+        return max(math.log(max(size[lead] / self.level, 1.0 + 1e-9)) / rate, 1e-300)
 
     def truncation(self, tail: TailBound) -> float:
         return tail.sup / self._scale()

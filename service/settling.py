@@ -72,11 +72,14 @@ def _root(measure: Measure, lower_s: float, upper_s: float) -> float:
 def _beyond(measure: Measure, start_s: float) -> float:
     """The crossing after ``start_s``, where the measure is known to be monotone and fails."""
     lower = start_s
-    upper = max(measure.guess_s(), start_s * _EXPAND)
+    guess = measure.guess_s()
+    upper = guess if guess > start_s else start_s * _EXPAND
+    factor = _NEAR_STEP
     for _ in range(_MAX_EXPANSIONS):
         if _excess(measure, upper) <= 0:
             return _root(measure, lower, upper)
-        lower, upper = upper, upper * _EXPAND
+        lower, upper = upper, upper * factor
+        factor = min(factor * factor, _EXPAND)
         if not math.isfinite(upper):
             break
     raise NumericalFailure("the criterion is never met: the measure does not fall to the level")

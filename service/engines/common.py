@@ -19,7 +19,10 @@ from numpy.typing import NDArray
 
 from service.physics import Case
 
-__all__ = ["Crossing", "Engine", "EngineRun", "ModalSolution", "TailBound"]
+__all__ = ["EXCITED_FRACTION", "Crossing", "Engine", "EngineRun", "ModalSolution", "TailBound"]
+
+# A mode counts as excited when its amplitude exceeds this fraction of the largest.
+EXCITED_FRACTION = 1e-12
 
 FloatArray = NDArray[np.float64]
 
@@ -71,6 +74,13 @@ class ModalSolution:
         if self.sample_basis_of is not None:
             return self.sample_basis_of()
         return self.basis_at(self.sample_positions_m)
+
+    @cached_property
+    def slowest_excited_rate_per_s(self) -> float:
+        """Rate of the slowest mode whose amplitude exceeds 1e-12 of the largest."""
+        amplitudes = np.abs(self.amplitudes)
+        excited = amplitudes > EXCITED_FRACTION * float(np.max(amplitudes))
+        return float(self.rates_per_s[np.argmax(excited)])
 
     def decay(self, times_s: FloatArray) -> FloatArray:
         """Matrix [times, modes] of exp(−λ_k t)."""
