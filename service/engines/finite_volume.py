@@ -42,6 +42,9 @@ __all__ = ["FiniteVolumeEngine", "build_mesh"]
 
 FloatArray = NDArray[np.float64]
 
+# A single grid (history) has this constant over the square root of the accuracy asked
+# (120 cells at 1e-4: second order, true errors of a few 1e-5 on the canonical cases).
+_CELLS_PER_ROOT_ACCURACY = 1.2
 # The first grid has this constant over the fourth root of the accuracy asked (80 cells at
 # 1e-4): the extrapolated time converges at fourth order.
 _CELLS_PER_QUARTER_ROOT_ACCURACY = 8.0
@@ -287,9 +290,11 @@ class FiniteVolumeEngine:
         return min(_MAX_START_CELLS, max(_MIN_CELLS, wanted))
 
     def solution(self, case: Case, earliest_time_s: float) -> ModalSolution:
-        """A grid at the accuracy asked, graded for the earliest time of interest."""
+        """One grid, graded for the earliest time of interest, fine enough for the accuracy
+        asked at second order (profiles over time are not extrapolated)."""
         length = math.sqrt(case.medium.diffusivity_m2_per_s * max(earliest_time_s, 0.0))
-        cells = self._cells(case)
+        wanted = math.ceil(_CELLS_PER_ROOT_ACCURACY / math.sqrt(case.accuracy))
+        cells = min(_MAX_START_CELLS, max(_MIN_CELLS, wanted))
         return self.solution_on(case, build_mesh(case, cells, self._grading(case, cells, length)))
 
     @staticmethod
