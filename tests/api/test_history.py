@@ -71,3 +71,22 @@ def test_history_refuses_times_before_the_resolved_range(client: TestClient) -> 
     response = client.post("/v1/history", json={**slab_request(), "times": [1.0, 1e-4]})
     assert response.status_code == 422
     assert response.json()["errors"][0]["pointer"] == "/times/1"
+
+
+def test_history_engines_agree_on_profiles_and_measures(client: TestClient) -> None:
+    request = {
+        **slab_request(
+            body={"shape": "cylinder", "radius": "2 mm"},
+            surface={"kind": "convective", "biot": 3, "ambient": 1},
+        ),
+        "times": [300.0, 1500.0, 6000.0],
+        "snapshot_count": 3,
+    }
+    series = client.post("/v1/history", json=request).json()
+    volume = client.post("/v1/history", json={**request, "engine": "finite_volume"}).json()
+    assert volume["method"]["engine"] == "finite_volume"
+    for a, b in zip(series["snapshots"], volume["snapshots"], strict=True):
+        assert max(abs(x - y) for x, y in zip(a["values"], b["values"], strict=True)) < 1e-3
+    for name, values in series["measures"].items():
+        for x, y in zip(values, volume["measures"][name], strict=True):
+            assert y == pytest.approx(x, rel=2e-3, abs=1e-6)
