@@ -178,22 +178,13 @@ class Measure(ABC):
 
     def guess_s(self) -> float:
         """A first guess of the crossing from the slowest excited mode."""
-        rate = _slowest_excited_rate(self.solution)
+        rate = self.solution.slowest_excited_rate_per_s
         if not rate > 0:
             raise NumericalFailure(
                 "the slowest excited mode does not decay in floating point "
                 "(a Biot number or diffusivity too small to represent)"
             )
         return max(math.log(max(1.0 / self.level, 1.0 + 1e-9)) / rate, 1e-300)
-
-
-def _slowest_excited_rate(solution: ModalSolution) -> float:
-    return solution.slowest_excited_rate_per_s
-
-
-def slowest_excited_rate(solution: ModalSolution) -> float:
-    """Rate of the slowest mode the start excites, 1/s."""
-    return _slowest_excited_rate(solution)
 
 
 class _SquareSum(Measure):
@@ -311,7 +302,7 @@ class MaxDeviation(Measure):
     def guess_s(self) -> float:
         """Where the slowest excited mode alone, at its largest, would reach the level."""
         solution = self.solution
-        rate = _slowest_excited_rate(solution)
+        rate = solution.slowest_excited_rate_per_s
         lead = int(np.argmax(solution.rates_per_s >= rate))
         peak = abs(solution.amplitudes[lead]) * float(
             np.max(np.abs(solution.sample_basis[:, lead]))

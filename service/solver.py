@@ -20,7 +20,6 @@ from service.measures import (
     Measure,
     build_measure,
     defined_measures,
-    slowest_excited_rate,
 )
 from service.physics import Case, Geometry, SurfaceKind
 from service.settling import find_settling_time
@@ -259,7 +258,7 @@ class Solver:
         values: dict[str, float | None] = {}
         for name, each in measured.items():
             values[name] = _finite(each.reported(time_s) if time_s > 0 else each.initial_value())
-        excited = slowest_excited_rate(run.solution)
+        excited = run.solution.slowest_excited_rate_per_s
         biot = case.surface.biot if case.surface.kind is SurfaceKind.CONVECTIVE else None
         return SettlingAnswer(
             time_s=time_s,
