@@ -67,6 +67,9 @@ class HistoryResponse(BaseModel):
     measures: dict[str, list[float | None]]
     snapshots: list[SnapshotOut]
     final_value: float
+    characteristic_length_m: float
+    length_convention: str = Field(description="'half_thickness' or 'radius'.")
+    biot: float | None = None
     method: Method
     interpreted_positions_m: dict[str, float] = Field(default_factory=dict)
     cautions: list[str]

@@ -85,6 +85,8 @@ def test_history_engines_agree_on_profiles_and_measures(client: TestClient) -> N
     series = client.post("/v1/history", json=request).json()
     volume = client.post("/v1/history", json={**request, "engine": "finite_volume"}).json()
     assert volume["method"]["engine"] == "finite_volume"
+    assert series["characteristic_length_m"] == pytest.approx(0.002)
+    assert (series["length_convention"], series["biot"]) == ("radius", 3)
     for a, b in zip(series["snapshots"], volume["snapshots"], strict=True):
         assert max(abs(x - y) for x, y in zip(a["values"], b["values"], strict=True)) < 1e-3
     for name, values in series["measures"].items():
