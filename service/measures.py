@@ -92,7 +92,8 @@ class Facts:
         )
         max_abs = start.max_abs_deviation(final)
         mean = start.body_moment(body.metric, shift=final) / weight
-        scale = max(abs(final), float(np.max(np.abs(np.r_[start.v0, start.v1]))))
+        low, high = start.value_range
+        scale = max(abs(final), abs(low), abs(high))
         if max_abs <= SETTLED_FRACTION * max(scale, np.finfo(float).tiny):
             raise InvalidInput(
                 "the start already equals its final state, so there is nothing to settle",
@@ -211,7 +212,7 @@ class _SquareSum(Measure):
 
     def guess_s(self) -> float:
         """Where the slowest term alone would reach the level."""
-        lead = int(np.argmax(self._terms > EXCITED_FRACTION * float(np.max(self._terms))))
+        lead = int(np.argmax(self._terms > EXCITED_FRACTION * float(self._terms.max())))
         rate = -self._exponents[lead]
         if rate <= 0:
             return super().guess_s()
@@ -304,9 +305,7 @@ class MaxDeviation(Measure):
         solution = self.solution
         rate = solution.slowest_excited_rate_per_s
         lead = int(np.argmax(solution.rates_per_s >= rate))
-        peak = abs(solution.amplitudes[lead]) * float(
-            np.max(np.abs(solution.sample_basis[:, lead]))
-        )
+        peak = abs(solution.amplitudes[lead]) * float(np.abs(solution.sample_basis[:, lead]).max())
         ratio = peak / self.facts.max_abs_start / self.level
         if not rate > 0:
             return super().guess_s()
@@ -378,9 +377,9 @@ class _SignedSum(Measure):
         """Where the slowest seen term alone would reach the level."""
         exponents, terms = self._scaled
         size = np.abs(terms)
-        if not float(np.max(size)) > 0:
+        if not float(size.max()) > 0:
             return super().guess_s()
-        lead = int(np.argmax(size > EXCITED_FRACTION * float(np.max(size))))
+        lead = int(np.argmax(size > EXCITED_FRACTION * float(size.max())))
         rate = -float(exponents[lead])
         if not rate > 0:
             return super().guess_s()
@@ -397,9 +396,9 @@ class _SignedSum(Measure):
         coefficients = self._coefficients()
         rates = self.solution.rates_per_s
         size = np.abs(coefficients)
-        if float(np.max(size)) == 0.0:
+        if float(size.max()) == 0.0:
             return floor_s
-        seen = np.flatnonzero(size > EXCITED_FRACTION * float(np.max(size)))
+        seen = np.flatnonzero(size > EXCITED_FRACTION * float(size.max()))
         lead = int(seen[0])
         rest = seen[1:]
         target = rates[lead] * size[lead]

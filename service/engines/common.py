@@ -79,7 +79,7 @@ class ModalSolution:
     def slowest_excited_rate_per_s(self) -> float:
         """Rate of the slowest mode whose amplitude exceeds 1e-12 of the largest."""
         amplitudes = np.abs(self.amplitudes)
-        excited = amplitudes > EXCITED_FRACTION * float(np.max(amplitudes))
+        excited = amplitudes > EXCITED_FRACTION * float(amplitudes.max())
         return float(self.rates_per_s[np.argmax(excited)])
 
     def decay(self, times_s: FloatArray) -> FloatArray:

@@ -242,8 +242,8 @@ class SeriesEngine:
                 (
                     float(zeta[-1]),
                     family.spacing,
-                    float(np.max(np.abs(amplitude[last]) / root_norm[last])),
-                    float(np.max(np.abs(amplitude[last]))),
+                    float((np.abs(amplitude[last]) / root_norm[last]).max()),
+                    float(np.abs(amplitude[last]).max()),
                 )
             )
         zeta_sorted = spectrum.zeta

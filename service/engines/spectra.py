@@ -145,7 +145,7 @@ class ModeFamily:
         self, zeta: FloatArray, a: FloatArray, b: FloatArray
     ) -> tuple[FloatArray, FloatArray]:
         """∫_a^b ξ^j φ(ζξ) ξ^m dξ for j = 0 and 1, as matrices [intervals, modes]."""
-        reach = float(max(np.max(np.abs(a)), np.max(np.abs(b))))
+        reach = float(max(np.abs(a).max(), np.abs(b).max()))
         small = zeta * reach <= _SMALL_ARGUMENT
         if not np.any(small):
             return self.closed_moments(zeta[None, :], np.stack([a, b], axis=0)[:, :, None])
