@@ -122,6 +122,7 @@ class _Spectrum:
     mean: FloatArray
     samples: FloatArray
     slowest_zeta: float
+    unit_samples: FloatArray
 
     @classmethod
     def of(cls, tables: tuple[_ModeTable, ...]) -> _Spectrum:
@@ -137,6 +138,7 @@ class _Spectrum:
             mean=np.concatenate([t.mean for t in tables])[order],
             samples=np.concatenate([t.samples for t in tables], axis=1)[:, order],
             slowest_zeta=float(np.min(zeta[zeta > 0])),
+            unit_samples=np.linspace(0.0, 1.0, tables[0].samples.shape[0]),
         )
 
 
@@ -269,7 +271,7 @@ class SeriesEngine:
                 )
             return TailBound(sup=sup, square=square, energy=energy)
 
-        samples = np.linspace(0.0, body.extent_m, _SAMPLES[body.geometry])
+        samples = spectrum.unit_samples * body.extent_m
         return ModalSolution(
             engine=self.name,
             resolution=int(zeta_sorted.size),
