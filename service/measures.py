@@ -161,6 +161,10 @@ class Measure(ABC):
     def value(self, time_s: float) -> float:
         return float(self.values(np.array([time_s]))[0])
 
+    def log_rate(self, time_s: float) -> tuple[float, float] | None:
+        """(value, d ln(value)/dt) at a time, where a closed form exists; None otherwise."""
+        return None
+
     def reported(self, time_s: float) -> float:
         """The quantity the response reports (the compared one unless a measure says)."""
         return self.value(time_s)
@@ -209,6 +213,11 @@ class _SquareSum(Measure):
 
     def value(self, time_s: float) -> float:
         return float(np.exp(self._exponents * time_s) @ self._terms)
+
+    def log_rate(self, time_s: float) -> tuple[float, float] | None:
+        weighted = np.exp(self._exponents * time_s) * self._terms
+        total = float(weighted.sum())
+        return (total, float(weighted @ self._exponents) / total) if total > 0 else None
 
     def guess_s(self) -> float:
         """Where the slowest term alone would reach the level."""
@@ -372,6 +381,12 @@ class _SignedSum(Measure):
     def value(self, time_s: float) -> float:
         exponents, terms = self._scaled
         return abs(float(np.exp(exponents * time_s) @ terms))
+
+    def log_rate(self, time_s: float) -> tuple[float, float] | None:
+        exponents, terms = self._scaled
+        weighted = np.exp(exponents * time_s) * terms
+        total = float(weighted.sum())
+        return (abs(total), float(weighted @ exponents) / total) if total != 0 else None
 
     def guess_s(self) -> float:
         """Where the slowest seen term alone would reach the level."""
