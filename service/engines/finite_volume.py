@@ -386,9 +386,9 @@ def _three_grid_estimate(
     order log2(|t_c − t_cc|/|t_f − t_c|) near 2 confirms the expansion; then the Richardson
     value R = t_f + (t_f − t_c)/3 has error −4·C4·h⁴, and the same extrapolation on the two
     coarser grids differs from it by 60·C4·h⁴, so |R − R_c|/15 estimates R's error (times a
-    safety factor of 3, and never below 1/64 of the fine grid's own estimate). Otherwise the fine time is reported with Roache's grid convergence
-    index F_s·|t_f − t_c|/((2² − 1)·t_f), F_s = 3 (P. J. Roache, J. Fluids Eng. 116 (1994)
-    405; from memory)."""
+    safety factor of 3, and never below 1/64 of the fine grid's own estimate). Otherwise the
+    fine time is reported with Roache's grid convergence index F_s·|t_f − t_c|/((2² − 1)·t_f),
+    F_s = 3 (P. J. Roache, J. Fluids Eng. 116 (1994) 405; from memory)."""
     difference = fine_s - coarse_s
     if fine_s <= 0.0:
         return fine_s, (0.0 if difference == 0 else math.inf), 2
