@@ -233,11 +233,16 @@ class SeriesEngine:
         families = FAMILIES[body.geometry]
         amplitudes = []
         tails: list[tuple[float, float, float, float]] = []
+        is_uniform = start.x0.size == 1 and start.v0[0] == start.v1[0]
         for family, table in zip(families, spectrum.tables, strict=True):
             zeta, root_norm = table.zeta, table.root_norm
-            m0, m1 = family.moments(zeta, xi0, xi1)
-            projection = (intercept @ m0 + slope @ m1) / family.body_measure
-            amplitude = np.where(zeta > 0, projection / root_norm, 0.0)
+            if is_uniform:
+                # ⟨u0, ψ⟩ = u0·⟨ψ⟩ for a uniform start: the cached means are the projections
+                amplitude = np.where(zeta > 0, (start.v0[0] - final) * table.mean, 0.0)
+            else:
+                m0, m1 = family.moments(zeta, xi0, xi1)
+                projection = (intercept @ m0 + slope @ m1) / family.body_measure
+                amplitude = np.where(zeta > 0, projection / root_norm, 0.0)
             amplitudes.append(amplitude)
             last = slice(zeta.size // 2, None)
             tails.append(

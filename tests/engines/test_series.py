@@ -91,3 +91,25 @@ def test_series_solution_reproduces_band_start_at_early_time() -> None:
         points = np.array([0.05, 0.27, 0.7]) * extent
         values = solution.values_at(points, np.array([1e-5]))[0] + case.final_value
         np.testing.assert_allclose(values, start.values(points), atol=1e-6)
+
+
+def test_series_uniform_shortcut_matches_general_projection() -> None:
+    # A uniform start is projected through the cached mode means; a start of two equal pieces
+    # takes the general closed-form path. Both must give the same amplitudes.
+    from service.physics import Start
+
+    for geometry in (Geometry.SLAB, Geometry.CYLINDER, Geometry.SPHERE):
+        case = make_case(geometry, SurfaceKind.CONVECTIVE, start_value=0.3, surface_value=1.0)
+        extent = case.body.extent_m
+        split = make_case(
+            geometry,
+            SurfaceKind.CONVECTIVE,
+            surface_value=1.0,
+            start=Start.from_pieces(
+                [(0.0, 0.4 * extent, 0.3, 0.3), (0.4 * extent, extent, 0.3, 0.3)]
+            ),
+        )
+        engine = SeriesEngine()
+        uniform = engine.solution(case, 0.01).amplitudes
+        general = engine.solution(split, 0.01).amplitudes
+        np.testing.assert_allclose(uniform, general, rtol=1e-12, atol=1e-14)
