@@ -165,9 +165,10 @@ class Measure(ABC):
         """(value, d ln(value)/dt) at a time, where a closed form exists; None otherwise."""
         return None
 
-    def reported(self, time_s: float) -> float:
-        """The quantity the response reports (the compared one unless a measure says)."""
-        return self.value(time_s)
+    def reported(self, times_s: FloatArray) -> FloatArray:
+        """The quantity the response reports at each time (the compared one unless a measure
+        says otherwise)."""
+        return self.values(times_s)
 
     @abstractmethod
     def initial_value(self) -> float:
@@ -483,8 +484,8 @@ class FractionEquilibrated(_SignedSum):
     def initial_value(self) -> float:
         return 1.0
 
-    def reported(self, time_s: float) -> float:
-        return 1.0 - float(self.signed(np.array([time_s]))[0]) / self.facts.mean_start
+    def reported(self, times_s: FloatArray) -> FloatArray:
+        return np.asarray(1.0 - self.signed(times_s) / self.facts.mean_start)
 
 
 class RelativeStandardDeviation(Measure):

@@ -257,7 +257,10 @@ class Solver:
         measured = defined_measures(case, facts, run.solution, criterion, measure)
         values: dict[str, float | None] = {}
         for name, each in measured.items():
-            values[name] = _finite(each.reported(time_s) if time_s > 0 else each.initial_value())
+            reported = (
+                float(each.reported(np.array([time_s]))[0]) if time_s > 0 else each.initial_value()
+            )
+            values[name] = _finite(reported)
         excited = run.solution.slowest_excited_rate_per_s
         biot = case.surface.biot if case.surface.kind is SurfaceKind.CONVECTIVE else None
         return SettlingAnswer(
@@ -307,12 +310,7 @@ class Solver:
         measured = defined_measures(case, facts, solution, case.criterion)
         series: dict[str, list[float | None]] = {}
         for name, each in measured.items():
-            reported = (
-                [each.reported(float(t)) for t in times]
-                if name == "fraction_equilibrated"
-                else each.values(times).tolist()
-            )
-            series[name] = [_finite(float(v)) for v in reported]
+            series[name] = [_finite(float(v)) for v in each.reported(times)]
         positions = np.linspace(0.0, case.body.extent_m, SNAPSHOT_POINTS)
         chosen = (
             np.unique(
