@@ -13,7 +13,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from service.engines import Crossing, Engine, ModalSolution, SeriesEngine, make_engines
-from service.engines.series import FOURIER_FLOOR
+from service.engines.common import FOURIER_FLOOR
 from service.errors import InvalidInput, NotApplicable, NumericalFailure
 from service.measures import (
     Facts,

@@ -19,10 +19,21 @@ from numpy.typing import NDArray
 
 from service.physics import Case
 
-__all__ = ["EXCITED_FRACTION", "Crossing", "Engine", "EngineRun", "ModalSolution", "TailBound"]
+__all__ = [
+    "EXCITED_FRACTION",
+    "FOURIER_FLOOR",
+    "Crossing",
+    "Engine",
+    "EngineRun",
+    "ModalSolution",
+    "TailBound",
+]
 
 # A mode counts as excited when its amplitude exceeds this fraction of the largest.
 EXCITED_FRACTION = 1e-12
+# Earliest Fourier number any engine searches or resolves; a criterion still met there is
+# met at once (or, if not met by the start, reported with that time as a bound).
+FOURIER_FLOOR = 1e-6
 
 FloatArray = NDArray[np.float64]
 

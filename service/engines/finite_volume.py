@@ -34,7 +34,7 @@ import numpy as np
 from numpy.typing import NDArray
 from scipy import linalg
 
-from service.engines.common import Crossing, EngineRun, ModalSolution
+from service.engines.common import FOURIER_FLOOR, Crossing, EngineRun, ModalSolution
 from service.errors import NotApplicable, NumericalFailure
 from service.physics import Case, Geometry, SurfaceKind
 
@@ -70,11 +70,10 @@ _SAFETY = 3.0
 # The extrapolated time's error estimate is at least the fine grid's over this factor.
 # (A factor of 4 was measured to double the cells of early answers; 64 keeps a cap.)
 _MAX_GAIN = 64.0
+# Observed orders accepted as confirming second order.
 _ORDER_BAND = (1.5, 2.5)
 # Refinement rounds before the engine reports the best it reached.
 _MAX_ROUNDS = 6
-# Fourier-number floor shared with the series engine's searches.
-FOURIER_FLOOR = 1e-6
 
 
 def mirrored_extent(case: Case) -> float | None:

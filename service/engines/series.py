@@ -32,7 +32,7 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import NDArray
 
-from service.engines.common import Crossing, EngineRun, ModalSolution, TailBound
+from service.engines.common import FOURIER_FLOOR, Crossing, EngineRun, ModalSolution, TailBound
 from service.engines.spectra import FAMILIES, ModeFamily
 from service.errors import NumericalFailure
 from service.physics import Case, Geometry, SurfaceKind
@@ -41,8 +41,6 @@ __all__ = ["SeriesEngine"]
 
 FloatArray = NDArray[np.float64]
 
-# Earliest Fourier number any search looks at; a criterion still met there is met at once.
-FOURIER_FLOOR = 1e-6
 # First guess of the earliest time needed, as a Fourier number; refined when the answer is earlier.
 _FIRST_FOURIER = 0.02
 # Truncation target relative to the largest start deviation, per unit of requested accuracy.
