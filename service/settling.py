@@ -1,7 +1,8 @@
 """The settling-time search on one solution: t* = inf{t : the criterion holds for all s ≥ t}.
 
-For a measure that never increases the answer is its only crossing: bracket, then Brent's
-method. Otherwise the measure supplies T*, a time after which it never increases or holds
+For a measure that never increases the answer is its only crossing: bracket it, then
+root-find (Newton steps on the logarithm where the measure has a closed-form slope, Brent's
+method otherwise). Otherwise the measure supplies T*, a time after which it never increases or holds
 for good (:meth:`service.measures.Measure.settled_after_s`). If the criterion fails at T*,
 the answer lies beyond it and is again a single crossing. If it holds at T*, the search
 walks down from T* in steps of 10^(1/32) in time until the first sample where it fails,
@@ -18,7 +19,7 @@ import math
 import numpy as np
 from scipy import optimize
 
-from service.engines.common import Crossing
+from service.engines.common import ROOT_RTOL, Crossing
 from service.errors import NumericalFailure
 from service.measures import Measure
 
@@ -30,14 +31,10 @@ _SAMPLES_PER_DECADE = 32
 _CHUNK = 32
 # A local maximum within this fraction of the level is refined and, if it stays below, flagged.
 _TANGENT_FRACTION = 0.05
-# Relative tolerance of every root-find (the engines add it to their error estimates).
-ROOT_RTOL = 1e-12
 # Newton steps before falling back to Brent's method.
 _NEWTON_STEPS = 30
 # First bracket step around a time found on another grid (then squared at each step).
 _NEAR_STEP = 1.02
-# Values below this are taken as this in logarithms.
-_TINY = 1e-300
 # Bracket expansion: factor per step and the most steps before giving up.
 _EXPAND = 2.0
 _MAX_EXPANSIONS = 2000

@@ -22,6 +22,7 @@ from service.physics import Case
 __all__ = [
     "EXCITED_FRACTION",
     "FOURIER_FLOOR",
+    "ROOT_RTOL",
     "Crossing",
     "Engine",
     "EngineRun",
@@ -34,6 +35,8 @@ EXCITED_FRACTION = 1e-12
 # Earliest Fourier number any engine searches or resolves; a criterion still met there is
 # met at once (or, if not met by the start, reported with that time as a bound).
 FOURIER_FLOOR = 1e-6
+# Relative tolerance every settling root-find is run to (added to the series' error estimate).
+ROOT_RTOL = 1e-12
 
 FloatArray = NDArray[np.float64]
 

@@ -32,7 +32,14 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import NDArray
 
-from service.engines.common import FOURIER_FLOOR, Crossing, EngineRun, ModalSolution, TailBound
+from service.engines.common import (
+    FOURIER_FLOOR,
+    ROOT_RTOL,
+    Crossing,
+    EngineRun,
+    ModalSolution,
+    TailBound,
+)
 from service.engines.spectra import FAMILIES, ModeFamily
 from service.errors import NumericalFailure
 from service.physics import Case, Geometry, SurfaceKind
@@ -50,8 +57,6 @@ _MIN_MODES = 8
 _MAX_MODES = 40_000
 # How much earlier the next solution reaches when a search ran into the validity floor.
 _REACH_FACTOR = 30.0
-# Relative tolerance the settling root-finder is run to (added to the error estimate).
-ROOT_RTOL = 1e-12
 # Points across the body where the largest deviation is sought.
 _SAMPLES = {Geometry.SLAB: 257, Geometry.CYLINDER: 129, Geometry.SPHERE: 129}
 # Eigenvalue caches kept per engine.
