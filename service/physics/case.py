@@ -153,7 +153,14 @@ class Start:
 
     def is_mirror_symmetric(self, extent_m: float) -> bool:
         """Whether c(x) = c(extent − x): compared on both sides of every break and its mirror
-        image and between them (exact for piecewise-linear profiles, to round-off)."""
+        image and between them (exact for piecewise-linear profiles, to round-off). Kept once
+        worked out, since every grid of a finite-volume query asks."""
+        cache: dict[float, bool] = self.__dict__.setdefault("_mirror", {})
+        if extent_m not in cache:
+            cache[extent_m] = self._mirror_symmetric(extent_m)
+        return cache[extent_m]
+
+    def _mirror_symmetric(self, extent_m: float) -> bool:
         points = np.unique(np.r_[self.x0, self.x1, extent_m - self.x0, extent_m - self.x1])
         points = np.clip(np.r_[points, 0.5 * (points[1:] + points[:-1])], 0.0, extent_m)
         offset = 1e-9 * extent_m
