@@ -15,6 +15,7 @@ reported as ``near_tangent`` (the time then jumps with small changes of the inpu
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 
 import numpy as np
 from scipy import optimize
@@ -45,8 +46,10 @@ def find_settling_time(measure: Measure, floor_s: float, near_s: float | None = 
     ``near_s``, a time close to the answer (found on another grid), narrows the bracket of
     a monotone measure."""
     if measure.is_monotone:
-        return _monotone(measure, floor_s, near_s)
-    return _last_crossing(measure, floor_s)
+        crossing = _monotone(measure, floor_s, near_s)
+    else:
+        crossing = _last_crossing(measure, floor_s)
+    return crossing if measure.extrapolable else replace(crossing, extrapolable=False)
 
 
 def _excess(measure: Measure, time_s: float) -> float:

@@ -118,6 +118,8 @@ class Crossing:
     hit_floor: bool
     near_tangent: bool = False
     holds_throughout: bool = False
+    # whether the time's grid error is smooth in the cell size (see Measure.extrapolable)
+    extrapolable: bool = True
 
 
 @dataclass(frozen=True)

@@ -99,9 +99,24 @@ def _separated(breaks: FloatArray, upper_end: float, gap: float) -> FloatArray:
     return np.asarray(kept, dtype=float)
 
 
+def _observed_points(case: Case, upper_end: float, gap: float) -> FloatArray:
+    """The criterion's point, when it names one inside the meshed extent, as a face of every
+    grid: read between the same two cells on each nested grid, its interpolation error keeps
+    the same expansion in the cell size, which the three-grid estimate relies on (a point that
+    falls at a different fraction of a cell on each grid has an error that jumps, and
+    Richardson extrapolation then misleads)."""
+    criterion = case.criterion
+    if criterion is None or criterion.position_m is None:
+        return np.zeros(0)
+    point = criterion.position_m
+    if upper_end < case.body.extent_m:
+        point = min(point, case.body.extent_m - point)
+    return _separated(np.array([point]), upper_end, gap)
+
+
 def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> FloatArray:
     """Face positions from 0 to the meshed extent (the body, or half a mirror-symmetric slab),
-    with faces on every break of the start.
+    with faces on every break of the start and at the point the criterion reads.
 
     ``cells`` sets the spacing over the whole body. With ``diffusion_length_m`` the spacing is
     graded: h(x) = min(h_max, h_min + g·dist), h_max = extent/cells, h_min = 2ℓ/cells,
@@ -112,7 +127,8 @@ def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> Floa
     upper_end = half if half is not None else extent
     h_max = extent / cells
     breaks = _separated(case.start.breakpoints_m, upper_end, _MIN_GAP * h_max)
-    required = np.concatenate([[0.0], breaks, [upper_end]])
+    required = np.union1d(breaks, _observed_points(case, upper_end, _MIN_GAP * h_max))
+    required = np.concatenate([[0.0], required, [upper_end]])
     features = list(breaks)
     if case.surface.kind is not SurfaceKind.NO_FLUX:
         if half is None:
@@ -352,7 +368,10 @@ class FiniteVolumeEngine:
             )
             coarsest_crossing = search(coarsest, floor_s, coarse_crossing.time_s)
             time_s, error, order = _three_grid_estimate(
-                fine_crossing.time_s, coarse_crossing.time_s, coarsest_crossing.time_s
+                fine_crossing.time_s,
+                coarse_crossing.time_s,
+                coarsest_crossing.time_s,
+                extrapolate=fine_crossing.extrapolable,
             )
             reported = replace(fine_crossing, time_s=time_s)
             if error <= case.accuracy:
@@ -377,7 +396,7 @@ def _capped() -> tuple[tuple[str, str], ...]:
 
 
 def _three_grid_estimate(
-    fine_s: float, coarse_s: float, coarsest_s: float
+    fine_s: float, coarse_s: float, coarsest_s: float, *, extrapolate: bool = True
 ) -> tuple[float, float, int]:
     """The time to report, its estimated relative error and the order it converges at.
 
@@ -387,7 +406,8 @@ def _three_grid_estimate(
     coarser grids differs from it by 60·C4·h⁴, so |R − R_c|/15 estimates R's error (times a
     safety factor of 3, and never below 1/64 of the fine grid's own estimate). Otherwise the
     fine time is reported with Roache's grid convergence index F_s·|t_f − t_c|/((2² − 1)·t_f),
-    F_s = 3 (P. J. Roache, J. Fluids Eng. 116 (1994) 405; from memory)."""
+    F_s = 3 (P. J. Roache, J. Fluids Eng. 116 (1994) 405; from memory); always so when the
+    measure's grid error is not smooth in the cell size (``extrapolate`` false)."""
     difference = fine_s - coarse_s
     if fine_s <= 0.0:
         return fine_s, (0.0 if difference == 0 else math.inf), 2
@@ -395,7 +415,8 @@ def _three_grid_estimate(
         return fine_s, 0.0, 2
     previous = coarse_s - coarsest_s
     order = math.log2(abs(previous) / abs(difference)) if previous != 0 else 0.0
-    if _ORDER_BAND[0] <= order <= _ORDER_BAND[1] and previous * difference > 0:
+    confirmed = _ORDER_BAND[0] <= order <= _ORDER_BAND[1] and previous * difference > 0
+    if extrapolate and confirmed:
         extrapolated = fine_s + difference / 3.0
         coarser = coarse_s + previous / 3.0
         if extrapolated > 0:
