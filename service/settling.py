@@ -49,7 +49,9 @@ def find_settling_time(measure: Measure, floor_s: float, near_s: float | None = 
         crossing = _monotone(measure, floor_s, near_s)
     else:
         crossing = _last_crossing(measure, floor_s)
-    return crossing if measure.extrapolable else replace(crossing, extrapolable=False)
+    if crossing.time_s > 0 and not measure.extrapolable_at(crossing.time_s):
+        return replace(crossing, extrapolable=False)
+    return crossing
 
 
 def _excess(measure: Measure, time_s: float) -> float:

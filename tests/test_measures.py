@@ -102,3 +102,27 @@ def test_energy_equals_mean_square_ratio_once_one_mode_is_left() -> None:
     square = build_measure(case, facts, solution, Criterion("mean_square_deviation", tolerance=0.1))
     energy = build_measure(case, facts, solution, Criterion("dirichlet_energy", tolerance=0.1))
     assert energy.value(3.0) == pytest.approx(square.value(3.0), rel=1e-12)
+
+
+def test_largest_deviation_extrapolable_only_while_its_peak_is_pinned() -> None:
+    """The peak at a mirrored slab's centre (a sample tied with its twin) or a sphere's centre
+    cell is placed alike on every grid; an off-centre band's peak, early on, is not."""
+    engine = FiniteVolumeEngine()
+    criterion = Criterion("max_deviation", tolerance=0.1)
+
+    def measure_of(case: Case):  # type: ignore[no-untyped-def]
+        solution = engine.solution_on(case, build_mesh(case, 64, None))
+        return build_measure(case, Facts.of(case), solution, criterion)
+
+    slab = make_case(Geometry.SLAB, SurfaceKind.FIXED_VALUE, criterion=criterion)
+    sphere = make_case(Geometry.SPHERE, SurfaceKind.FIXED_VALUE, criterion=criterion)
+    band = make_case(
+        Geometry.SLAB,
+        SurfaceKind.NO_FLUX,
+        start=off_centre_band(Geometry.SLAB),
+        criterion=criterion,
+    )
+    for time in (0.05, 0.3, 1.0):
+        assert measure_of(slab).extrapolable_at(time)
+        assert measure_of(sphere).extrapolable_at(time)
+    assert not measure_of(band).extrapolable_at(0.01)

@@ -118,7 +118,7 @@ class Crossing:
     hit_floor: bool
     near_tangent: bool = False
     holds_throughout: bool = False
-    # whether the time's grid error is smooth in the cell size (see Measure.extrapolable)
+    # whether the time's grid error is smooth in the cell size (Measure.extrapolable_at)
     extrapolable: bool = True
 
 

@@ -32,7 +32,7 @@ from itertools import pairwise
 
 import numpy as np
 from numpy.typing import NDArray
-from scipy import linalg
+from scipy.linalg import lapack
 
 from service.engines.common import FOURIER_FLOOR, Crossing, EngineRun, ModalSolution
 from service.errors import NotApplicable, NumericalFailure
@@ -45,10 +45,19 @@ FloatArray = NDArray[np.float64]
 # A single grid (history) has this constant over the square root of the accuracy asked
 # (120 cells at 1e-4: second order, true errors of a few 1e-5 on the canonical cases).
 _CELLS_PER_ROOT_ACCURACY = 1.2
-# The first grid has this constant over the fourth root of the accuracy asked (80 cells at
-# 1e-4): the extrapolated time converges at fourth order.
-_CELLS_PER_QUARTER_ROOT_ACCURACY = 8.0
-_MIN_CELLS = 32
+# When the time cannot be extrapolated (see Measure.extrapolable_at), the first grid of the
+# rounds has this constant over the square root of the accuracy asked (200 cells at 1e-4):
+# its grid convergence index, about three times its own error, must meet the accuracy.
+_GCI_CELLS_PER_ROOT_ACCURACY = 2.0
+# The first grid has this constant over the fourth root of the accuracy asked (60 cells at
+# 1e-4): the extrapolated time converges at fourth order. Chosen by the audit in
+# tests/test_error_estimates.py: at 4 (40 cells) a few estimates understated the true error
+# by more than the safety factor; at 6 none did on 2200 cases, at 8 none did either.
+_CELLS_PER_QUARTER_ROOT_ACCURACY = 6.0
+# Graded grids (early answers) start from this constant instead (80 cells at 1e-4): with
+# 60, most early answers in benchmarks/engines.py needed a second round, doubling their cost.
+_GRADED_CELLS_PER_QUARTER_ROOT_ACCURACY = 8.0
+_MIN_CELLS = 24
 # Above this many cells the eigendecomposition costs more than a query should; stop there.
 _MAX_CELLS = 3000
 # The first grid never has more than this many cells; refinement goes on from there.
@@ -225,10 +234,12 @@ class FiniteVolumeEngine:
         root_volume = np.sqrt(volumes)
         scaled_diagonal = diagonal / volumes
         scaled_off = -conductance / (root_volume[1:] * root_volume[:-1])
-        try:
-            rates, vectors = linalg.eigh_tridiagonal(scaled_diagonal, scaled_off)
-        except (linalg.LinAlgError, ValueError) as exc:
-            raise NumericalFailure(f"the finite-volume eigensolver failed: {exc}") from exc
+        # LAPACK's divide-and-conquer tridiagonal solver, called directly: scipy's
+        # eigh_tridiagonal picks the same routine but its checks cost a fifth of the call at
+        # these sizes; the inputs are finite by construction and the output is checked
+        rates, vectors, info = lapack.dstevd(scaled_diagonal, scaled_off, compute_v=1)
+        if info != 0 or not np.all(np.isfinite(rates)):
+            raise NumericalFailure(f"the finite-volume eigensolver failed (LAPACK info {info})")
 
         root_total = math.sqrt(float(np.sum(volumes)))
         if amounts is None:
@@ -303,17 +314,22 @@ class FiniteVolumeEngine:
         }
         return conductances[kind]()
 
-    def _cells(self, case: Case) -> int:
-        wanted = math.ceil(_CELLS_PER_QUARTER_ROOT_ACCURACY / case.accuracy**0.25)
+    @staticmethod
+    def _cells(case: Case, constant: float = _CELLS_PER_QUARTER_ROOT_ACCURACY) -> int:
+        wanted = math.ceil(constant / case.accuracy**0.25)
         return min(_MAX_START_CELLS, max(_MIN_CELLS, wanted))
 
     def solution(self, case: Case, earliest_time_s: float) -> ModalSolution:
         """One grid, graded for the earliest time of interest, fine enough for the accuracy
         asked at second order (profiles over time are not extrapolated)."""
         length = math.sqrt(case.medium.diffusivity_m2_per_s * max(earliest_time_s, 0.0))
-        wanted = math.ceil(_CELLS_PER_ROOT_ACCURACY / math.sqrt(case.accuracy))
-        cells = min(_MAX_START_CELLS, max(_MIN_CELLS, wanted))
+        cells = self._second_order_cells(case, _CELLS_PER_ROOT_ACCURACY)
         return self.solution_on(case, build_mesh(case, cells, self._grading(case, cells, length)))
+
+    @staticmethod
+    def _second_order_cells(case: Case, constant: float) -> int:
+        wanted = math.ceil(constant / math.sqrt(case.accuracy))
+        return min(_MAX_START_CELLS, max(_MIN_CELLS, wanted))
 
     @staticmethod
     def _grading(case: Case, cells: int, diffusion_length_m: float) -> float | None:
@@ -344,12 +360,18 @@ class FiniteVolumeEngine:
         fine_faces = build_mesh(case, cells, None)
         fine, amounts = on_grid(fine_faces)
         fine_crossing = search(fine, floor_s, None)
+        first_cells = cells
+        if not fine_crossing.extrapolable:
+            # the time will be the fine grid's own (second order): start where that suffices
+            cells = max(cells, self._second_order_cells(case, _GCI_CELLS_PER_ROOT_ACCURACY))
         length = self._grading(
             case, cells, math.sqrt(diffusivity * max(fine_crossing.time_s, floor_s))
         )
+        if length is not None:
+            cells = max(cells, self._cells(case, _GRADED_CELLS_PER_QUARTER_ROOT_ACCURACY))
         reported, error = fine_crossing, math.inf
         for round_number in range(_MAX_ROUNDS):
-            if round_number > 0 or length is not None:
+            if round_number > 0 or length is not None or cells != first_cells:
                 try:
                     refined_faces = build_mesh(case, cells, length)
                 except NotApplicable:
@@ -422,8 +444,8 @@ def _three_grid_estimate(
         if extrapolated > 0:
             # credit the extrapolation with at most a _MAX_GAIN-fold gain over the fine grid's
             # own estimate |t_f − t_c|/3: three grids can agree on second order by chance
-            # before the asymptotic range (seen for a point value with 12–50 cells; the first
-            # grid's 80 cells at 1e-4 are the main guard against it)
+            # before the asymptotic range (the first grid's 60 cells at 1e-4 and the audit in
+            # tests/test_error_estimates.py are the guards against it)
             extrapolated_error = abs(extrapolated - coarser) / 15.0
             floor = abs(difference) / 3.0 / _MAX_GAIN
             error = _SAFETY * max(extrapolated_error, floor) / extrapolated
