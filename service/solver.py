@@ -15,6 +15,7 @@ from numpy.typing import NDArray
 from service.engines import Crossing, Engine, ModalSolution, SeriesEngine, make_engines
 from service.engines.common import FOURIER_FLOOR
 from service.errors import InvalidInput, NotApplicable, NumericalFailure
+from service.lumped import LUMPED_BIOT, LumpedAnswer, classical_biot, lumped_answer
 from service.measures import (
     Facts,
     Measure,
@@ -36,8 +37,6 @@ __all__ = [
 
 FloatArray = NDArray[np.float64]
 
-# The classical lumped-capacity rule: Bi on V/A below this and one number will do.
-LUMPED_BIOT = 0.1
 # Cases the API may answer on its event loop: series engine, a start of at most this many
 # pieces, an accuracy no tighter than this.
 QUICK_START_PIECES = 16
@@ -92,6 +91,7 @@ class SettlingAnswer:
     resolution: int
     estimated_relative_error: float
     biot: float | None
+    lumped: LumpedAnswer | None = None
     warnings: list[tuple[str, str]] = field(default_factory=list)
     assumptions: list[str] = field(default_factory=list)
     cautions: list[str] = field(default_factory=list)
@@ -152,18 +152,15 @@ def _interpret(
             )
     if crossing.near_tangent:
         warnings.append(("near_tangent", WARNING_CODES["near_tangent"]))
-    if case.surface.kind is SurfaceKind.CONVECTIVE:
-        classical = (
-            case.surface.biot * case.body.volume_to_area_m / case.body.characteristic_length_m
-        )
-        if classical < LUMPED_BIOT:
-            warnings.append(
-                (
-                    "lumped_would_do",
-                    f"the classical Biot number on V/A is {classical:.3g}, below {LUMPED_BIOT}: a "
-                    "lumped (uniform-body) model would give nearly the same time",
-                )
+    classical = classical_biot(case)
+    if classical is not None and classical < LUMPED_BIOT:
+        warnings.append(
+            (
+                "lumped_would_do",
+                f"the classical Biot number on V/A is {classical:.3g}, below {LUMPED_BIOT}: a "
+                "lumped (uniform-body) model would give nearly the same time",
             )
+        )
     return time_s, warnings
 
 
@@ -171,6 +168,11 @@ def _assumptions(case: Case, facts: Facts) -> list[str]:
     assumptions = list(_ASSUMPTIONS)
     if case.surface.kind is SurfaceKind.NO_FLUX and case.body.geometry is not Geometry.SLAB:
         assumptions.append(_RADIAL_SEALED)
+    if case.medium.partition != 1.0 and case.surface.kind is SurfaceKind.CONVECTIVE:
+        assumptions.append(
+            f"Partition equilibrium at the surface with K = {case.medium.partition:.6g}: the "
+            "body ends at K times the surroundings' value."
+        )
     assumptions.append(f"The final state is uniform at {facts.final_value:.6g}.")
     return assumptions
 
@@ -275,6 +277,7 @@ class Solver:
             resolution=run.solution.resolution,
             estimated_relative_error=run.estimated_relative_error,
             biot=biot,
+            lumped=lumped_answer(case, facts),
             warnings=warnings,
             assumptions=_assumptions(case, facts),
             cautions=list(CAUTIONS),

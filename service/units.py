@@ -51,6 +51,16 @@ DIMENSIONS: dict[str, Dimension] = {
     "time": Dimension("[time]", "a time", "s"),
     "diffusivity": Dimension("[length]**2/[time]", "a diffusivity (length²/time)", "m^2/s"),
     "velocity": Dimension("[length]/[time]", "a transfer coefficient (length/time)", "m/s"),
+    "conductivity": Dimension(
+        "[mass]*[length]/[time]**3/[temperature]", "a thermal conductivity", "W/(m*K)"
+    ),
+    "density": Dimension("[mass]/[length]**3", "a density", "kg/m^3"),
+    "specific_heat": Dimension(
+        "[length]**2/[time]**2/[temperature]", "a specific heat capacity", "J/(kg*K)"
+    ),
+    "heat_transfer_coefficient": Dimension(
+        "[mass]/[time]**3/[temperature]", "a heat transfer coefficient", "W/(m^2*K)"
+    ),
 }
 
 

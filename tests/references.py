@@ -16,6 +16,8 @@ __all__ = [
     "NO_FLUX_FIRST_WAVENUMBERS",
     "ONE_TERM",
     "ONE_TERM_SOURCE",
+    "THERMOCOUPLE_INPUTS",
+    "THERMOCOUPLE_TIME",
     "WATTS_ANTISYMMETRIC_ROOTS",
     "WATTS_SYMMETRIC_ROOTS",
     "Reference",
@@ -124,3 +126,17 @@ NO_FLUX_FIRST_WAVENUMBERS: dict[str, Reference] = {
     "cylinder": Reference(3.8317, 4, "first zero of J1 (tables of Bessel zeros)", "seen"),
     "sphere": Reference(4.4934, 4, "first positive root of tan x = x (OEIS A115365)", "seen"),
 }
+
+# Çengel, Heat and Mass Transfer, Example 4-1 "Temperature Measurement by Thermocouples"
+# (lumped system analysis): a 1 mm junction sphere, k = 35 W/(m·°C), ρ = 8500 kg/m³,
+# c_p = 320 J/(kg·°C), h = 210 W/(m²·°C); Bi on V/A = 0.001, b = 0.462 s⁻¹, and the junction
+# reads 99 % of the initial temperature difference after t = 10 s (printed as 10 s; inputs
+# and answer seen quoted in a worked solution and in a port of the book's examples).
+THERMOCOUPLE_INPUTS: dict[str, float] = {
+    "diameter_m": 1e-3,
+    "conductivity": 35.0,
+    "density": 8500.0,
+    "specific_heat": 320.0,
+    "heat_transfer_coefficient": 210.0,
+}
+THERMOCOUPLE_TIME = Reference(10.0, 2, "Çengel, Heat and Mass Transfer, Example 4-1", "seen quoted")

@@ -21,7 +21,7 @@ from service.physics import (
     Surface,
     SurfaceKind,
 )
-from service.units import Units
+from service.units import DIMENSIONS, Units
 
 __all__ = ["Translation", "to_case"]
 
@@ -30,6 +30,12 @@ __all__ = ["Translation", "to_case"]
 LENGTH_RANGE_M = (1e-9, 1e4)
 DIFFUSIVITY_RANGE_M2_PER_S = (1e-30, 1e3)
 BIOT_RANGE = (0.0, 1e6)
+# Largest magnitude of a value (concentration, temperature), as the request models accept.
+VALUE_LIMIT = 1e12
+# Heat inputs: wider than any real material (aerogels to diamond, gases to metals).
+CONDUCTIVITY_RANGE = (1e-6, 1e5)
+DENSITY_RANGE = (1e-3, 1e5)
+SPECIFIC_HEAT_RANGE = (1.0, 1e6)
 
 _GEOMETRY = {"slab": Geometry.SLAB, "cylinder": Geometry.CYLINDER, "sphere": Geometry.SPHERE}
 
@@ -76,6 +82,48 @@ class _Translator:
             assert request.diameter is not None
             extent = self.length(request.diameter, "/body/diameter") / 2
         return Body(geometry, extent)
+
+    def quantity(
+        self, raw: float | str, dimension: str, bounds: tuple[float, float], pointer: str
+    ) -> float:
+        value = self.units.to_si(raw, dimension, pointer)
+        label = DIMENSIONS[dimension]
+        return _in_range(value, bounds, label.label.removeprefix("a "), label.si_unit, pointer)
+
+    def medium(self, request: rq.Medium) -> Medium:
+        conductivity = (
+            self.quantity(
+                request.conductivity, "conductivity", CONDUCTIVITY_RANGE, "/medium/conductivity"
+            )
+            if request.conductivity is not None
+            else None
+        )
+        if request.diffusivity is not None:
+            diffusivity = self.quantity(
+                request.diffusivity,
+                "diffusivity",
+                DIFFUSIVITY_RANGE_M2_PER_S,
+                "/medium/diffusivity",
+            )
+        else:
+            assert request.density is not None and request.specific_heat is not None
+            assert conductivity is not None
+            density = self.quantity(request.density, "density", DENSITY_RANGE, "/medium/density")
+            specific_heat = self.quantity(
+                request.specific_heat,
+                "specific_heat",
+                SPECIFIC_HEAT_RANGE,
+                "/medium/specific_heat",
+            )
+            diffusivity = _in_range(
+                conductivity / (density * specific_heat),
+                DIFFUSIVITY_RANGE_M2_PER_S,
+                "the thermal diffusivity k/(ρ·c_p)",
+                "m^2/s",
+                "/medium",
+            )
+        partition = request.partition if request.partition is not None else 1.0
+        return Medium(diffusivity, conductivity, partition)
 
     def position(self, raw: float | str | rq.PositionSpec, body: Body, pointer: str) -> float:
         extent = body.extent_m
@@ -154,26 +202,63 @@ class _Translator:
         self,
         request: rq.NoFluxSurface | rq.FixedValueSurface | rq.ConvectiveSurface,
         body: Body,
-        diffusivity: float,
+        medium: Medium,
     ) -> Surface:
         if isinstance(request, rq.NoFluxSurface):
             return Surface(SurfaceKind.NO_FLUX)
         if isinstance(request, rq.FixedValueSurface):
             return Surface(SurfaceKind.FIXED_VALUE, value=request.value)
+        partition = medium.partition
+        length = body.characteristic_length_m
         if request.biot is not None:
             biot = request.biot
-        else:
-            assert request.transfer_coefficient is not None
+        elif request.transfer_coefficient is not None:
             pointer = "/surface/transfer_coefficient"
             coefficient = self.units.to_si(request.transfer_coefficient, "velocity", pointer)
-            biot = coefficient * body.characteristic_length_m / diffusivity
-            if not BIOT_RANGE[0] < biot <= BIOT_RANGE[1]:
+            biot = self._biot(
+                coefficient * length / (partition * medium.diffusivity_m2_per_s),
+                "k_f·Lc/(K·D)",
+                pointer,
+            )
+        else:
+            assert request.heat_transfer_coefficient is not None
+            pointer = "/surface/heat_transfer_coefficient"
+            if medium.conductivity_w_per_m_k is None:
                 raise InvalidInput(
-                    f"this transfer coefficient gives Bi = k_f·Lc/D = {biot:.3g}; "
-                    f"accepted is 0 < Bi ≤ {BIOT_RANGE[1]:g}",
+                    "a heat transfer coefficient needs the medium's 'conductivity' (Bi = h·Lc/k); "
+                    "give it beside the diffusivity, or give the Biot number",
                     pointer,
                 )
-        return Surface(SurfaceKind.CONVECTIVE, value=request.ambient, biot=biot)
+            if partition != 1.0:
+                raise InvalidInput(
+                    "a partition coefficient applies to mass transfer; with a heat transfer "
+                    "coefficient the body's surface comes to the surroundings' temperature",
+                    "/medium/partition",
+                )
+            coefficient = self.units.to_si(
+                request.heat_transfer_coefficient, "heat_transfer_coefficient", pointer
+            )
+            biot = self._biot(
+                coefficient * length / medium.conductivity_w_per_m_k, "h·Lc/k", pointer
+            )
+        final = partition * request.ambient
+        if abs(final) > VALUE_LIMIT:
+            raise InvalidInput(
+                f"the body's final value K·ambient = {final:.3g} is beyond ±{VALUE_LIMIT:g}; "
+                "rescale the values (any one unit will do)",
+                "/medium/partition",
+            )
+        return Surface(SurfaceKind.CONVECTIVE, value=final, biot=biot)
+
+    @staticmethod
+    def _biot(biot: float, formula: str, pointer: str) -> float:
+        if not BIOT_RANGE[0] < biot <= BIOT_RANGE[1]:
+            raise InvalidInput(
+                f"this coefficient gives Bi = {formula} = {biot:.3g}; "
+                f"accepted is 0 < Bi ≤ {BIOT_RANGE[1]:g}",
+                pointer,
+            )
+        return biot
 
     def criterion(self, request: object, body: Body) -> Criterion:
         if isinstance(request, rq.ValueAtCriterion):
@@ -193,20 +278,14 @@ def to_case(request: rq.CaseRequest, units: Units) -> Translation:
     """The physics case a request describes."""
     translator = _Translator(units)
     body = translator.body(request.body)
-    diffusivity = _in_range(
-        units.to_si(request.medium.diffusivity, "diffusivity", "/medium/diffusivity"),
-        DIFFUSIVITY_RANGE_M2_PER_S,
-        "the diffusivity",
-        "m^2/s",
-        "/medium/diffusivity",
-    )
+    medium = translator.medium(request.medium)
     start = translator.start(request.initial, body)
-    surface = translator.surface(request.surface, body, diffusivity)
+    surface = translator.surface(request.surface, body, medium)
     raw_criterion = getattr(request, "criterion", None)
     criterion = translator.criterion(raw_criterion, body) if raw_criterion is not None else None
     case = Case(
         body=body,
-        medium=Medium(diffusivity),
+        medium=medium,
         start=start,
         surface=surface,
         criterion=criterion,

@@ -10,7 +10,7 @@ from starlette.concurrency import run_in_threadpool
 from service.api.cases import Translation, to_case
 from service.api.deps import SolverDep, UnitsDep, json_response
 from service.api.problems import PROBLEM_RESPONSES
-from service.models import Method, SettlingRequest, SettlingResponse, WarningOut
+from service.models import LumpedOut, Method, SettlingRequest, SettlingResponse, WarningOut
 from service.solver import Solver, format_time
 
 __all__ = ["router"]
@@ -61,7 +61,18 @@ def _respond(translation: Translation, solver: Solver) -> Response:
                 resolution=answer.resolution,
                 estimated_relative_error=answer.estimated_relative_error,
             ),
+            diffusivity_m2_per_s=case.medium.diffusivity_m2_per_s,
             biot=answer.biot,
+            lumped=(
+                LumpedOut(
+                    time_s=answer.lumped.time_s,
+                    time_text=format_time(answer.lumped.time_s),
+                    rate_per_s=answer.lumped.rate_per_s,
+                    biot_volume_to_area=answer.lumped.biot_volume_to_area,
+                )
+                if answer.lumped is not None
+                else None
+            ),
             interpreted_positions_m=translation.positions_m,
             warnings=[WarningOut(code=code, message=message) for code, message in answer.warnings],
             assumptions=answer.assumptions,

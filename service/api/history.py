@@ -43,6 +43,7 @@ def history(request: HistoryRequest, solver: SolverDep, units: UnitsDep) -> Resp
             final_value=answer.final_value,
             characteristic_length_m=translation.case.body.characteristic_length_m,
             length_convention=translation.case.body.length_convention,
+            diffusivity_m2_per_s=translation.case.medium.diffusivity_m2_per_s,
             biot=translation.case.surface.biot
             if translation.case.surface.kind is SurfaceKind.CONVECTIVE
             else None,

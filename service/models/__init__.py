@@ -10,6 +10,7 @@ from service.models.requests import (
 )
 from service.models.responses import (
     HistoryResponse,
+    LumpedOut,
     Method,
     Problem,
     ProblemItem,
@@ -22,6 +23,7 @@ __all__ = [
     "CaseRequest",
     "HistoryRequest",
     "HistoryResponse",
+    "LumpedOut",
     "Method",
     "PositionSpec",
     "Problem",

@@ -91,9 +91,50 @@ Body = Annotated[SlabBody | RadialBody, Field(discriminator="shape")]
 
 
 class Medium(_Strict):
-    diffusivity: Quantity = Field(
-        description="Mass diffusivity, or thermal diffusivity for heat (m^2/s, or 'number unit')."
+    """The body's transport properties: a diffusivity, or for heat the conductivity, density and
+    specific heat it follows from (α = k/(ρ·c_p)); the conductivity may also accompany a
+    thermal diffusivity, so that a heat transfer coefficient can be turned into a Biot number."""
+
+    diffusivity: Quantity | None = Field(
+        None,
+        description="Mass diffusivity, or thermal diffusivity for heat (m^2/s, or 'number unit').",
     )
+    conductivity: Quantity | None = Field(
+        None, description="Thermal conductivity k (W/(m*K), or 'number unit')."
+    )
+    density: Quantity | None = Field(None, description="Density ρ (kg/m^3, or 'number unit').")
+    specific_heat: Quantity | None = Field(
+        None, description="Specific heat capacity c_p (J/(kg*K), or 'number unit')."
+    )
+    partition: float | None = Field(
+        None,
+        gt=0,
+        le=1e6,
+        allow_inf_nan=False,
+        strict=True,
+        description="Partition coefficient K (mass transfer): the body's equilibrium value over "
+        "the surroundings' value, in (0, 1e6]; default 1. A convective surface then passes "
+        "J = k_f·(ambient − c_s/K) into the body, Bi = k_f·Lc/(K·D), and the body ends at "
+        "K·ambient; a fixed_value surface's value is the body-side value.",
+    )
+
+    @model_validator(mode="after")
+    def _determined(self) -> Medium:
+        heat = (self.conductivity, self.density, self.specific_heat)
+        if self.diffusivity is None and any(v is None for v in heat):
+            raise ValueError(
+                "give 'diffusivity', or 'conductivity', 'density' and 'specific_heat' (the "
+                "thermal diffusivity is then k/(ρ·c_p))"
+            )
+        if self.diffusivity is not None and (
+            self.density is not None or self.specific_heat is not None
+        ):
+            raise ValueError(
+                "give either 'diffusivity' (with 'conductivity' if a heat transfer coefficient "
+                "is used) or 'conductivity', 'density' and 'specific_heat', not both: the "
+                "diffusivity would be given twice"
+            )
+        return self
 
 
 class UniformStart(_Strict):
@@ -145,22 +186,37 @@ class FixedValueSurface(_Strict):
 
 
 class ConvectiveSurface(_Strict):
-    """Flux into the body J = k_f·(ambient − c_s); Bi = k_f·Lc/D. ``ambient`` is in the same
-    value units as the body."""
+    """Flux into the body J = k_f·(ambient − c_s/K), K the medium's partition coefficient
+    (1 unless given); Bi = k_f·Lc/(K·D). For heat, q = h·(T_ambient − T_s) and Bi = h·Lc/k.
+    ``ambient`` is the surroundings' value, in the same value units as the body; the body ends
+    at K·ambient."""
 
     kind: Literal["convective"]
     biot: float | None = Field(
-        None, gt=0, le=1e6, allow_inf_nan=False, description="Biot number k_f·Lc/D, in (0, 1e6]."
+        None,
+        gt=0,
+        le=1e6,
+        allow_inf_nan=False,
+        description="Biot number as it enters the body's surface condition (k_f·Lc/(K·D), or "
+        "h·Lc/k for heat), in (0, 1e6].",
     )
     transfer_coefficient: Quantity | None = Field(
-        None, description="Surface transfer coefficient k_f (m/s, or 'number unit')."
+        None, description="Mass transfer coefficient k_f (m/s, or 'number unit')."
+    )
+    heat_transfer_coefficient: Quantity | None = Field(
+        None,
+        description="Heat transfer coefficient h (W/(m^2*K), or 'number unit'); needs the "
+        "medium's conductivity.",
     )
     ambient: Value
 
     @model_validator(mode="after")
     def _one_rate(self) -> ConvectiveSurface:
-        if (self.biot is None) == (self.transfer_coefficient is None):
-            raise ValueError("give exactly one of 'biot' or 'transfer_coefficient'")
+        given = [self.biot, self.transfer_coefficient, self.heat_transfer_coefficient]
+        if sum(v is not None for v in given) != 1:
+            raise ValueError(
+                "give exactly one of 'biot', 'transfer_coefficient' or 'heat_transfer_coefficient'"
+            )
         return self
 
 

@@ -6,6 +6,7 @@ from pydantic import BaseModel, Field
 
 __all__ = [
     "HistoryResponse",
+    "LumpedOut",
     "Method",
     "Problem",
     "ProblemItem",
@@ -31,6 +32,16 @@ class WarningOut(BaseModel):
     message: str
 
 
+class LumpedOut(BaseModel):
+    """The lumped (uniform-body) model's answer, given when the classical Biot number on V/A
+    is below 0.1: the body then stays nearly uniform and one exponential describes it."""
+
+    time_s: float
+    time_text: str
+    rate_per_s: float = Field(description="b = Bi·D/(Lc·(V/A)): the lumped body's decay rate.")
+    biot_volume_to_area: float = Field(description="The classical Biot number, on Lc = V/A.")
+
+
 class SettlingResponse(BaseModel):
     time_s: float = Field(description="Earliest time after which the criterion holds for good.")
     time_text: str
@@ -47,7 +58,17 @@ class SettlingResponse(BaseModel):
         "(fraction_equilibrated as F itself); null where not finite."
     )
     method: Method
-    biot: float | None = None
+    diffusivity_m2_per_s: float = Field(
+        description="The diffusivity used: as given, or k/(ρ·c_p) from heat inputs."
+    )
+    biot: float | None = Field(
+        None, description="Biot number on Lc as it enters the surface condition (convective)."
+    )
+    lumped: LumpedOut | None = Field(
+        None,
+        description="The lumped model's time beside this one, when the classical Biot number "
+        "is below 0.1 and the criterion means something for a uniform body.",
+    )
     interpreted_positions_m: dict[str, float] = Field(
         default_factory=dict, description="Every position in the request, in metres, by pointer."
     )
@@ -69,6 +90,7 @@ class HistoryResponse(BaseModel):
     final_value: float
     characteristic_length_m: float
     length_convention: str = Field(description="'half_thickness' or 'radius'.")
+    diffusivity_m2_per_s: float
     biot: float | None = None
     method: Method
     interpreted_positions_m: dict[str, float] = Field(default_factory=dict)

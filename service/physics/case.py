@@ -73,7 +73,13 @@ class Body:
 
 @dataclass(frozen=True)
 class Medium:
+    """Transport properties. Only the diffusivity enters the engines; the conductivity (for
+    heat, when known) and the partition coefficient K (mass: the body's equilibrium value over
+    the surroundings') are kept for what is derived from them and echoed."""
+
     diffusivity_m2_per_s: float
+    conductivity_w_per_m_k: float | None = None
+    partition: float = 1.0
 
 
 @dataclass(frozen=True)
