@@ -34,6 +34,7 @@ from service.physics import (
     Body,
     Case,
     Criterion,
+    Faces,
     Geometry,
     Medium,
     Start,
@@ -57,11 +58,13 @@ def _case(
         )
     else:
         initial = Start.uniform(extent, 0.0)
+    body = Body(geometry, extent)
+    surface = Surface(kind, value=1.0, biot=2.0 if kind is SurfaceKind.CONVECTIVE else 0.0)
     return Case(
-        Body(geometry, extent),
+        body,
         Medium(1e-9),
         initial,
-        Surface(kind, value=1.0, biot=2.0 if kind is SurfaceKind.CONVECTIVE else 0.0),
+        Faces.alike(body, surface),
         criterion,
         accuracy=1e-4,
         engine=engine,
@@ -141,19 +144,19 @@ def _uniform_operator(case: Case, cells: int) -> tuple[sparse.csr_matrix, np.nda
     volumes = (faces[1:] ** (m + 1) - faces[:-1] ** (m + 1)) / (m + 1)
     g = d * faces[1:-1] ** m / np.diff(centres)
     diagonal = np.r_[g, 0.0] + np.r_[0.0, g]
-    kf = case.surface.biot * d / case.body.characteristic_length_m
+    kf = case.faces.outer.biot * d / case.characteristic_length_m
     half = faces[-1] - centres[-1]
     boundary = {
         SurfaceKind.NO_FLUX: 0.0,
         SurfaceKind.FIXED_VALUE: d / half,
         SurfaceKind.CONVECTIVE: 1.0 / (half / d + 1.0 / kf) if kf else 0.0,
-    }[case.surface.kind]
+    }[case.faces.outer.kind]
     diagonal[-1] += boundary * faces[-1] ** m
     forcing = np.zeros(cells)
-    forcing[-1] = boundary * faces[-1] ** m * case.surface.value
+    forcing[-1] = boundary * faces[-1] ** m * case.faces.outer.value
     if case.body.geometry is Geometry.SLAB:
         diagonal[0] += boundary
-        forcing[0] = boundary * case.surface.value
+        forcing[0] = boundary * case.faces.outer.value
     operator = sparse.diags([g / volumes[1:], -diagonal / volumes, g / volumes[:-1]], [-1, 0, 1])
     return operator.tocsr(), forcing / volumes, volumes
 

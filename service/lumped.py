@@ -8,12 +8,12 @@ uniform and its deviation from the final state decays as one exponential:
 
     V·du/dt = −A·k_eff·u  ⇒  u(t) = ū0·e^{−bt},  b = k_eff·A/V = Bi·D/(Lc·(V/A)),
 
-with Bi = k_eff·Lc/D the Biot number on the characteristic length Lc the engines use
-(k_eff = k_f/K for mass transfer with a partition coefficient, h/(ρc_p) for heat) and ū0 the
-mean deviation of the start (the lumped body starts with the body's amount). Each measure
-that is defined for a uniform body then has a closed-form time; the gradient energy and the
-relative standard deviation are identically zero for a uniform body, so no lumped time is
-given for them.
+(b = Σ k_i·A_i/V over the exchanging ends when their coefficients differ), with Bi = k_eff·Lc/D
+the Biot number on the characteristic length Lc the engines use (k_eff = k_f/K for mass
+transfer with a partition coefficient, h/(ρc_p) for heat) and ū0 the mean deviation of the
+start (the lumped body starts with the body's amount). Each measure that is defined for a
+uniform body then has a closed-form time; the gradient energy and the relative standard
+deviation are identically zero for a uniform body, so no lumped time is given for them.
 """
 
 from __future__ import annotations
@@ -39,12 +39,29 @@ class LumpedAnswer:
     biot_volume_to_area: float
 
 
-def classical_biot(case: Case) -> float | None:
-    """Bi on Lc = V/A for a convective surface; None for other surfaces."""
-    if case.surface.kind is not SurfaceKind.CONVECTIVE:
-        return None
+def _biot_area(case: Case) -> float | None:
+    """Σ Bi_i·A_i over the exchanging ends when every one of them is convective (a held
+    surface has no film resistance, so the body cannot stay uniform); None otherwise."""
     body = case.body
-    return case.surface.biot * body.volume_to_area_m / body.characteristic_length_m
+    ends = ((case.faces.inner, body.inner_m), (case.faces.outer, body.extent_m))
+    exchanging = [
+        (end, radius)
+        for end, radius in ends
+        if end is not None and end.kind is not SurfaceKind.NO_FLUX
+    ]
+    if not exchanging or any(end.kind is not SurfaceKind.CONVECTIVE for end, _ in exchanging):
+        return None
+    return sum(end.biot * radius**body.metric for end, radius in exchanging)
+
+
+def classical_biot(case: Case) -> float | None:
+    """Bi on Lc = V/A (area-weighted over the exchanging ends) when every exchanging end is
+    convective; None otherwise."""
+    biot_area = _biot_area(case)
+    if biot_area is None:
+        return None
+    mean_biot = biot_area / case.exchange_area
+    return mean_biot * case.volume_to_area_m / case.characteristic_length_m
 
 
 def _decay_ratio(facts: Facts, criterion: Criterion) -> float | None:
@@ -82,11 +99,13 @@ def lumped_answer(case: Case, facts: Facts) -> LumpedAnswer | None:
     ratio = _decay_ratio(facts, criterion)
     if ratio is None:
         return None
-    body = case.body
+    biot_area = _biot_area(case)
+    assert biot_area is not None
+    # b = Σ k_i·A_i/V with k_i = Bi_i·D/Lc
     rate = (
-        case.surface.biot
+        biot_area
         * case.medium.diffusivity_m2_per_s
-        / (body.characteristic_length_m * body.volume_to_area_m)
+        / (case.characteristic_length_m * case.body_weight)
     )
     time_s = math.log(1.0 / ratio) / rate if ratio < 1.0 else 0.0
     return LumpedAnswer(time_s=time_s, rate_per_s=rate, biot_volume_to_area=biot)

@@ -41,10 +41,9 @@ import numpy as np
 from numpy.typing import NDArray
 from scipy import optimize
 
-from service.engines import spectra
 from service.engines.common import EXCITED_FRACTION, ModalSolution, TailBound
 from service.errors import InvalidInput, NumericalFailure
-from service.physics import Case, Criterion, SurfaceKind
+from service.physics import Case, Criterion
 
 __all__ = ["MEASURES", "Facts", "Measure", "build_measure", "defined_measures"]
 
@@ -71,25 +70,17 @@ class Facts:
     max_abs_start: float
     mean_square_start: float
     mean_start: float
-    slowest_wavenumber_per_m: float
     diffusivity_m2_per_s: float
     rsd_refusal: str | None
     fraction_refusal: str | None
 
     @classmethod
-    def of(cls, case: Case, slowest_wavenumber: float | None = None) -> Facts:
-        """Facts of ``case``; ``slowest_wavenumber`` (ζ1 on Lc) may come from an engine's cache."""
+    def of(cls, case: Case) -> Facts:
+        """Facts of ``case``: its final value and the start's size about it."""
         body = case.body
         weight = case.body_weight
         final = case.final_value
         start = case.start
-        surface = case.surface
-        biot = surface.biot if surface.kind is SurfaceKind.CONVECTIVE else 0.0
-        zeta1 = (
-            slowest_wavenumber
-            if slowest_wavenumber is not None
-            else spectra.slowest_wavenumber(body.geometry, surface.kind, biot)
-        )
         max_abs = start.max_abs_deviation(final)
         mean = start.body_moment(body.metric, shift=final) / weight
         low, high = start.value_range
@@ -104,7 +95,6 @@ class Facts:
             max_abs_start=max_abs,
             mean_square_start=start.body_moment(body.metric, shift=final, power=2) / weight,
             mean_start=mean,
-            slowest_wavenumber_per_m=zeta1 / body.characteristic_length_m,
             diffusivity_m2_per_s=case.medium.diffusivity_m2_per_s,
             rsd_refusal=_rsd_refusal(case, final),
             fraction_refusal=_fraction_refusal(case, mean, scale),
@@ -118,8 +108,7 @@ def _rsd_refusal(case: Case, final: float) -> str | None:
             "the mean, which tends to zero here"
         )
     values = set(case.start.signs())
-    if case.surface.kind is not SurfaceKind.NO_FLUX and case.surface.value != 0.0:
-        values.add(int(np.sign(case.surface.value)))
+    values.update(int(np.sign(end.value)) for end in case.faces.exchanging if end.value != 0.0)
     if len(values) > 1:
         return (
             "rsd needs every start and surface value to have one sign (the mean could pass "
@@ -130,7 +119,7 @@ def _rsd_refusal(case: Case, final: float) -> str | None:
 
 
 def _fraction_refusal(case: Case, mean: float, scale: float) -> str | None:
-    if case.surface.kind is SurfaceKind.NO_FLUX:
+    if not case.faces.exchanging:
         return (
             "fraction_equilibrated needs an amount that changes: with no_flux surfaces the "
             "amount is conserved; use mean_square_deviation, max_deviation or rsd"

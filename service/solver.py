@@ -63,7 +63,7 @@ _ASSUMPTIONS = (
     "Transport by diffusion or conduction only, in a homogeneous body with constant properties.",
     "No flow, stirring or convection inside the body; any of these would make the real time "
     "shorter.",
-    "The same condition acts on every exposed surface, and the surroundings do not change.",
+    "The surroundings do not change over time.",
 )
 _RADIAL_SEALED = (
     "For a sealed cylinder or sphere the answer is for a radially symmetric start; a start that "
@@ -166,15 +166,23 @@ def _interpret(
 
 def _assumptions(case: Case, facts: Facts) -> list[str]:
     assumptions = list(_ASSUMPTIONS)
-    if case.surface.kind is SurfaceKind.NO_FLUX and case.body.geometry is not Geometry.SLAB:
+    if not case.faces.exchanging and case.body.geometry is not Geometry.SLAB:
         assumptions.append(_RADIAL_SEALED)
-    if case.medium.partition != 1.0 and case.surface.kind is SurfaceKind.CONVECTIVE:
+    if case.medium.partition != 1.0 and any(
+        end.kind is SurfaceKind.CONVECTIVE for end in case.faces.ends
+    ):
         assumptions.append(
             f"Partition equilibrium at the surface with K = {case.medium.partition:.6g}: the "
             "body ends at K times the surroundings' value."
         )
     assumptions.append(f"The final state is uniform at {facts.final_value:.6g}.")
     return assumptions
+
+
+def common_biot(case: Case) -> float | None:
+    """The Biot number of the convective ends when they share one; None otherwise."""
+    values = {end.biot for end in case.faces.ends if end.kind is SurfaceKind.CONVECTIVE}
+    return values.pop() if len(values) == 1 else None
 
 
 def _finite(value: float) -> float | None:
@@ -187,14 +195,28 @@ class Solver:
     def __init__(self) -> None:
         self.engines: dict[str, Engine] = make_engines()
 
-    def _facts(self, case: Case) -> Facts:
+    def _slowest_rate(self, case: Case, solution: ModalSolution) -> float:
+        """D·λ1² of the body: exact where the series applies, else the engine's own."""
         series = self.engines["series"]
         assert isinstance(series, SeriesEngine)
-        return Facts.of(case, series.slowest_wavenumber(case))
+        try:
+            series.check(case)
+        except NotApplicable:
+            return solution.slowest_rate_per_s
+        wavenumber = series.slowest_wavenumber(case) / case.characteristic_length_m
+        return case.medium.diffusivity_m2_per_s * wavenumber**2
 
     def _engine(self, case: Case) -> Engine:
-        name = "series" if case.engine == "auto" else case.engine
-        engine = self.engines.get(name)
+        """The engine asked for; ``auto`` is the exact series where it applies, otherwise the
+        finite-volume engine."""
+        if case.engine == "auto":
+            series = self.engines["series"]
+            try:
+                series.check(case)
+            except NotApplicable:
+                return self.engines["finite_volume"]
+            return series
+        engine = self.engines.get(case.engine)
         if engine is None:
             raise NotApplicable(f"unknown engine {case.engine!r}", "/engine")
         try:
@@ -219,7 +241,7 @@ class Solver:
         criterion = case.criterion
         if criterion is None:
             raise InvalidInput("a settling time needs a criterion", "/criterion")
-        facts = self._facts(case)
+        facts = Facts.of(case)
         engine = self._engine(case)
 
         built: dict[int, tuple[ModalSolution, Measure]] = {}
@@ -249,7 +271,7 @@ class Solver:
             raise NumericalFailure(
                 "the engine could not represent this case in floating point (a rate or time "
                 f"beyond its range: {exc}); check the inputs' magnitudes",
-                "/surface" if case.surface.kind is SurfaceKind.CONVECTIVE else "",
+                "/surface" if common_biot(case) is not None else "",
             ) from exc
         crossing = run.crossing
         measure = measure_on(run.solution)
@@ -264,13 +286,13 @@ class Solver:
             )
             values[name] = _finite(reported)
         excited = run.solution.slowest_excited_rate_per_s
-        biot = case.surface.biot if case.surface.kind is SurfaceKind.CONVECTIVE else None
+        biot = common_biot(case)
         return SettlingAnswer(
             time_s=time_s,
             definition=crossing.definition,
             fourier_number=time_s / case.diffusion_time_s,
             final_value=facts.final_value,
-            slowest_rate_per_s=facts.diffusivity_m2_per_s * facts.slowest_wavenumber_per_m**2,
+            slowest_rate_per_s=self._slowest_rate(case, run.solution),
             slowest_excited_rate_per_s=excited,
             measures=values,
             engine=run.solution.engine,
@@ -307,14 +329,14 @@ class Solver:
                         "here), the earliest time the engines resolve",
                         f"/times/{index}",
                     )
-        facts = self._facts(case)
+        facts = Facts.of(case)
         engine = self._engine(case)
         solution = engine.solution(case, float(np.min(times)))
         measured = defined_measures(case, facts, solution, case.criterion)
         series: dict[str, list[float | None]] = {}
         for name, each in measured.items():
             series[name] = [_finite(float(v)) for v in each.reported(times)]
-        positions = np.linspace(0.0, case.body.extent_m, SNAPSHOT_POINTS)
+        positions = np.linspace(case.body.inner_m, case.body.extent_m, SNAPSHOT_POINTS)
         chosen = (
             np.unique(
                 np.linspace(0, times.size - 1, min(snapshot_count, times.size)).round().astype(int)

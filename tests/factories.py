@@ -2,7 +2,17 @@
 
 from __future__ import annotations
 
-from service.physics import Body, Case, Criterion, Geometry, Medium, Start, Surface, SurfaceKind
+from service.physics import (
+    Body,
+    Case,
+    Criterion,
+    Faces,
+    Geometry,
+    Medium,
+    Start,
+    Surface,
+    SurfaceKind,
+)
 
 SHAPES = (Geometry.SLAB, Geometry.CYLINDER, Geometry.SPHERE)
 KINDS = (SurfaceKind.NO_FLUX, SurfaceKind.FIXED_VALUE, SurfaceKind.CONVECTIVE)
@@ -24,13 +34,15 @@ def make_case(
 ) -> Case:
     """A body whose characteristic length is ``length_m`` (slab thickness 2·length_m)."""
     extent = 2 * length_m if geometry is Geometry.SLAB else length_m
+    body = Body(geometry, extent)
+    surface = Surface(
+        kind, value=surface_value, biot=biot if kind is SurfaceKind.CONVECTIVE else 0.0
+    )
     return Case(
-        body=Body(geometry, extent),
+        body=body,
         medium=Medium(diffusivity),
         start=start if start is not None else Start.uniform(extent, start_value),
-        surface=Surface(
-            kind, value=surface_value, biot=biot if kind is SurfaceKind.CONVECTIVE else 0.0
-        ),
+        faces=Faces.alike(body, surface),
         criterion=criterion,
         accuracy=accuracy,
         engine=engine,

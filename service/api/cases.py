@@ -6,7 +6,6 @@ what a word like "surface" or a depth meant, in metres.
 
 from __future__ import annotations
 
-from collections.abc import Callable
 from dataclasses import dataclass, field
 
 from service.errors import InvalidInput
@@ -15,11 +14,13 @@ from service.physics import (
     Body,
     Case,
     Criterion,
+    Faces,
     Geometry,
     Medium,
     Start,
     Surface,
     SurfaceKind,
+    characteristic_length,
 )
 from service.units import DIMENSIONS, Units
 
@@ -30,6 +31,8 @@ __all__ = ["Translation", "to_case"]
 LENGTH_RANGE_M = (1e-9, 1e4)
 DIFFUSIVITY_RANGE_M2_PER_S = (1e-30, 1e3)
 BIOT_RANGE = (0.0, 1e6)
+# Thinnest wall of a hollow body, as a fraction of its outer radius.
+HOLLOW_WALL_MIN = 1e-6
 # Largest magnitude of a value (concentration, temperature), as the request models accept.
 VALUE_LIMIT = 1e12
 # Heat inputs: wider than any real material (aerogels to diamond, gases to metals).
@@ -81,7 +84,16 @@ class _Translator:
         else:
             assert request.diameter is not None
             extent = self.length(request.diameter, "/body/diameter") / 2
-        return Body(geometry, extent)
+        inner = 0.0
+        if isinstance(request, rq.RadialBody) and request.inner_radius is not None:
+            inner = self.length(request.inner_radius, "/body/inner_radius")
+            if not inner < extent * (1 - HOLLOW_WALL_MIN):
+                raise InvalidInput(
+                    f"the inner radius ({inner:g} m) must be smaller than the outer radius "
+                    f"({extent:g} m), with a wall of at least {HOLLOW_WALL_MIN:g} of it",
+                    "/body/inner_radius",
+                )
+        return Body(geometry, extent, inner)
 
     def quantity(
         self, raw: float | str, dimension: str, bounds: tuple[float, float], pointer: str
@@ -126,48 +138,68 @@ class _Translator:
         return Medium(diffusivity, conductivity, partition)
 
     def position(self, raw: float | str | rq.PositionSpec, body: Body, pointer: str) -> float:
-        extent = body.extent_m
+        extent, inner = body.extent_m, body.inner_m
         is_slab = body.geometry is Geometry.SLAB
-        words: dict[str, Callable[[str], float]] = {
-            "centre": lambda face: extent / 2 if is_slab else 0.0,
-            "surface": lambda face: (extent if face == "second" else 0.0) if is_slab else extent,
-        }
+        # each face by name: where it is and which way "depth" runs from it
+        faces = (
+            {"first": (0.0, 1.0), "second": (extent, -1.0)}
+            if is_slab
+            else {"outer": (extent, -1.0), **({"inner": (inner, 1.0)} if inner > 0 else {})}
+        )
+        default_face = "first" if is_slab else "outer"
         if isinstance(raw, rq.PositionSpec):
-            if raw.face == "second" and not is_slab:
+            face = raw.face or default_face
+            if face not in faces:
                 raise InvalidInput(
-                    "'face' applies to a slab only; a cylinder or sphere has one surface",
+                    f"this body's faces are {', '.join(repr(f) for f in faces)}",
                     pointer + "/face",
                 )
-            if raw.at is not None:
-                value = words[raw.at](raw.face)
+            at, direction = faces[face]
+            if raw.at == "centre":
+                value = self._centre(body, pointer + "/at")
+            elif raw.at == "surface":
+                value = at
             else:
                 assert raw.depth is not None
                 depth = self.units.to_si(raw.depth, "length", pointer + "/depth")
-                if not 0 <= depth <= extent:
+                if not 0 <= depth <= body.wall_m:
                     raise InvalidInput(
-                        f"the depth {depth:g} m is outside the body (0 to {extent:g} m)",
+                        f"the depth {depth:g} m is outside the body (0 to {body.wall_m:g} m)",
                         pointer + "/depth",
                     )
-                from_first = raw.face == "first" if is_slab else False
-                value = depth if from_first else extent - depth
-        elif isinstance(raw, str) and raw.strip() in words:
-            value = words[raw.strip()]("first")
+                value = at + direction * depth
+        elif isinstance(raw, str) and raw.strip() == "centre":
+            value = self._centre(body, pointer)
+        elif isinstance(raw, str) and raw.strip() == "surface":
+            value = faces[default_face][0]
         else:
             value = self.units.to_si(raw, "length", pointer)
-            if not 0 <= value <= extent:
+            if not inner <= value <= extent:
                 axis = "from the first face" if is_slab else "from the centre"
                 raise InvalidInput(
                     f"the position {value:g} m ({axis}) is outside the body, which "
-                    f"spans 0 to {extent:g} m",
+                    f"spans {inner:g} to {extent:g} m",
                     pointer,
                 )
         self.positions[pointer] = value
         return value
 
+    @staticmethod
+    def _centre(body: Body, pointer: str) -> float:
+        if body.geometry is Geometry.SLAB:
+            return body.extent_m / 2
+        if body.inner_m > 0:
+            raise InvalidInput(
+                "a hollow body has no material at its centre; give a radius, a depth or "
+                "{'at': 'surface', 'face': 'inner'}",
+                pointer,
+            )
+        return 0.0
+
     def start(self, request: rq.UniformStart | rq.BandStart | rq.ProfileStart, body: Body) -> Start:
-        extent = body.extent_m
+        extent, inner = body.extent_m, body.inner_m
         if isinstance(request, rq.UniformStart):
-            return Start.uniform(extent, request.value)
+            return Start.uniform(extent, request.value, inner)
         if isinstance(request, rq.BandStart):
             lower = self.position(request.between[0], body, "/initial/between/0")
             upper = self.position(request.between[1], body, "/initial/between/1")
@@ -177,7 +209,11 @@ class _Translator:
                 )
             out, inside = request.outside, request.inside
             return Start.from_pieces(
-                [(0.0, lower, out, out), (lower, upper, inside, inside), (upper, extent, out, out)]
+                [
+                    (inner, lower, out, out),
+                    (lower, upper, inside, inside),
+                    (upper, extent, out, out),
+                ]
             )
         points = [
             self.position(p, body, f"/initial/positions/{i}")
@@ -191,43 +227,99 @@ class _Translator:
                     f"/initial/positions/{i}",
                 )
         values = request.values
-        pieces = [(0.0, points[0], values[0], values[0])]
+        pieces = [(inner, points[0], values[0], values[0])]
         pieces += [
             (points[i], points[i + 1], values[i], values[i + 1]) for i in range(len(points) - 1)
         ]
         pieces.append((points[-1], extent, values[-1], values[-1]))
         return Start.from_pieces(pieces)
 
+    def faces(self, request: rq.CaseRequest, body: Body, medium: Medium) -> Faces:
+        """The condition at each end, from ``surface`` (the same everywhere) or ``faces``."""
+        if request.surface is not None:
+            inner = (request.surface, "/surface") if body.has_inner_face else None
+            ends = (inner, (request.surface, "/surface"))
+        else:
+            assert request.faces is not None
+            ends = self._named_ends(request.faces, body)
+        kinds = Faces(
+            Surface(SurfaceKind(ends[0][0].kind)) if ends[0] is not None else None,
+            Surface(SurfaceKind(ends[1][0].kind)),
+        )
+        length, _ = characteristic_length(body, kinds)
+        inner_end = (
+            self.surface(ends[0][0], length, medium, ends[0][1]) if ends[0] is not None else None
+        )
+        faces = Faces(inner_end, self.surface(ends[1][0], length, medium, ends[1][1]))
+        values = {end.value for end in faces.exchanging}
+        if len(values) > 1:
+            raise InvalidInput(
+                "the faces lead to different final values, so the body would end in a steady "
+                "profile across it (a membrane between two baths); this version settles bodies "
+                "whose exchanging faces share one final value",
+                "/faces",
+            )
+        return faces
+
+    @staticmethod
+    def _named_ends(
+        request: rq.Faces, body: Body
+    ) -> tuple[tuple[rq.SurfaceRequest, str] | None, tuple[rq.SurfaceRequest, str]]:
+        """(inner, outer) conditions with their pointers, from the names the shape uses."""
+        if body.geometry is Geometry.SLAB:
+            names, what = ("first", "second"), "a slab's faces are 'first' (x = 0) and 'second'"
+        elif body.inner_m > 0:
+            names, what = ("inner", "outer"), "a hollow body's surfaces are 'inner' and 'outer'"
+        else:
+            if request.inner is not None:
+                raise InvalidInput(
+                    "a solid cylinder's or sphere's centre is a symmetry point, never a "
+                    "boundary; give 'body.inner_radius' for a hollow body",
+                    "/faces/inner",
+                )
+            raise InvalidInput(
+                "a solid cylinder or sphere has one surface: give 'surface' instead of 'faces'",
+                "/faces",
+            )
+        given = {"first": request.first, "second": request.second, "inner": request.inner}
+        given["outer"] = request.outer
+        for name, value in given.items():
+            if value is not None and name not in names:
+                raise InvalidInput(what, f"/faces/{name}")
+        pairs = []
+        for name in names:
+            value = given[name]
+            if value is None:
+                raise InvalidInput(f"give a condition for each end: {what}", f"/faces/{name}")
+            pairs.append((value, f"/faces/{name}"))
+        return pairs[0], pairs[1]
+
     def surface(
-        self,
-        request: rq.NoFluxSurface | rq.FixedValueSurface | rq.ConvectiveSurface,
-        body: Body,
-        medium: Medium,
+        self, request: rq.SurfaceRequest, length: float, medium: Medium, pointer: str
     ) -> Surface:
         if isinstance(request, rq.NoFluxSurface):
             return Surface(SurfaceKind.NO_FLUX)
         if isinstance(request, rq.FixedValueSurface):
             return Surface(SurfaceKind.FIXED_VALUE, value=request.value)
         partition = medium.partition
-        length = body.characteristic_length_m
         if request.biot is not None:
             biot = request.biot
         elif request.transfer_coefficient is not None:
-            pointer = "/surface/transfer_coefficient"
-            coefficient = self.units.to_si(request.transfer_coefficient, "velocity", pointer)
+            where = pointer + "/transfer_coefficient"
+            coefficient = self.units.to_si(request.transfer_coefficient, "velocity", where)
             biot = self._biot(
                 coefficient * length / (partition * medium.diffusivity_m2_per_s),
                 "k_f·Lc/(K·D)",
-                pointer,
+                where,
             )
         else:
             assert request.heat_transfer_coefficient is not None
-            pointer = "/surface/heat_transfer_coefficient"
+            where = pointer + "/heat_transfer_coefficient"
             if medium.conductivity_w_per_m_k is None:
                 raise InvalidInput(
                     "a heat transfer coefficient needs the medium's 'conductivity' (Bi = h·Lc/k); "
                     "give it beside the diffusivity, or give the Biot number",
-                    pointer,
+                    where,
                 )
             if partition != 1.0:
                 raise InvalidInput(
@@ -236,11 +328,9 @@ class _Translator:
                     "/medium/partition",
                 )
             coefficient = self.units.to_si(
-                request.heat_transfer_coefficient, "heat_transfer_coefficient", pointer
+                request.heat_transfer_coefficient, "heat_transfer_coefficient", where
             )
-            biot = self._biot(
-                coefficient * length / medium.conductivity_w_per_m_k, "h·Lc/k", pointer
-            )
+            biot = self._biot(coefficient * length / medium.conductivity_w_per_m_k, "h·Lc/k", where)
         final = partition * request.ambient
         if abs(final) > VALUE_LIMIT:
             raise InvalidInput(
@@ -280,14 +370,14 @@ def to_case(request: rq.CaseRequest, units: Units) -> Translation:
     body = translator.body(request.body)
     medium = translator.medium(request.medium)
     start = translator.start(request.initial, body)
-    surface = translator.surface(request.surface, body, medium)
+    faces = translator.faces(request, body, medium)
     raw_criterion = getattr(request, "criterion", None)
     criterion = translator.criterion(raw_criterion, body) if raw_criterion is not None else None
     case = Case(
         body=body,
         medium=medium,
         start=start,
-        surface=surface,
+        faces=faces,
         criterion=criterion,
         accuracy=request.accuracy,
         engine=request.engine,

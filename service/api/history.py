@@ -10,8 +10,7 @@ from service.api.cases import to_case
 from service.api.deps import SolverDep, UnitsDep, json_response
 from service.api.problems import PROBLEM_RESPONSES
 from service.models import HistoryRequest, HistoryResponse, Method, SnapshotOut
-from service.physics import SurfaceKind
-from service.solver import CAUTIONS
+from service.solver import CAUTIONS, common_biot
 
 __all__ = ["router"]
 
@@ -41,12 +40,10 @@ def history(request: HistoryRequest, solver: SolverDep, units: UnitsDep) -> Resp
                 for s in answer.snapshots
             ],
             final_value=answer.final_value,
-            characteristic_length_m=translation.case.body.characteristic_length_m,
-            length_convention=translation.case.body.length_convention,
+            characteristic_length_m=translation.case.characteristic_length_m,
+            length_convention=translation.case.length_convention,
             diffusivity_m2_per_s=translation.case.medium.diffusivity_m2_per_s,
-            biot=translation.case.surface.biot
-            if translation.case.surface.kind is SurfaceKind.CONVECTIVE
-            else None,
+            biot=common_biot(translation.case),
             method=Method(engine=answer.engine, path="eigen", resolution=answer.resolution),
             interpreted_positions_m=translation.positions_m,
             cautions=list(CAUTIONS),

@@ -36,7 +36,7 @@ from scipy.linalg import lapack
 
 from service.engines.common import FOURIER_FLOOR, Crossing, EngineRun, ModalSolution
 from service.errors import NotApplicable, NumericalFailure
-from service.physics import Case, Geometry, SurfaceKind
+from service.physics import Case, Geometry, Surface, SurfaceKind
 
 __all__ = ["FiniteVolumeEngine", "build_mesh"]
 
@@ -89,18 +89,22 @@ def mirrored_extent(case: Case) -> float | None:
     """Half the thickness when a slab and its start are mirror-symmetric (then only
     0..thickness/2 is meshed, with a symmetry face at the centre), otherwise None."""
     body = case.body
-    if body.geometry is Geometry.SLAB and case.start.is_mirror_symmetric(body.extent_m):
+    if (
+        body.geometry is Geometry.SLAB
+        and case.faces.is_alike
+        and case.start.is_mirror_symmetric(body.extent_m)
+    ):
         return body.extent_m / 2
     return None
 
 
-def _separated(breaks: FloatArray, upper_end: float, gap: float) -> FloatArray:
-    """Breaks strictly inside (0, upper_end), dropping any closer than ``gap`` to the one kept
-    before it or to either end: a sliver of the start that thin then shares a cell with its
-    neighbour, whose average still integrates it exactly, instead of making a cell so thin
-    that the operator loses its accuracy."""
+def _separated(breaks: FloatArray, lower_end: float, upper_end: float, gap: float) -> FloatArray:
+    """Breaks strictly inside (lower_end, upper_end), dropping any closer than ``gap`` to the
+    one kept before it or to either end: a sliver of the start that thin then shares a cell
+    with its neighbour, whose average still integrates it exactly, instead of making a cell so
+    thin that the operator loses its accuracy."""
     kept: list[float] = []
-    last = 0.0
+    last = lower_end
     for point in np.sort(breaks).tolist():
         if point - last >= gap and upper_end - point >= gap:
             kept.append(point)
@@ -120,34 +124,37 @@ def _observed_points(case: Case, upper_end: float, gap: float) -> FloatArray:
     point = criterion.position_m
     if upper_end < case.body.extent_m:
         point = min(point, case.body.extent_m - point)
-    return _separated(np.array([point]), upper_end, gap)
+    return _separated(np.array([point]), case.body.inner_m, upper_end, gap)
 
 
 def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> FloatArray:
-    """Face positions from 0 to the meshed extent (the body, or half a mirror-symmetric slab),
-    with faces on every break of the start and at the point the criterion reads.
+    """Face positions from the inner end (0, or a hollow body's inner radius) to the meshed
+    extent (the body, or half a mirror-symmetric slab), with faces on every break of the start
+    and at the point the criterion reads.
 
     ``cells`` sets the spacing over the whole body. With ``diffusion_length_m`` the spacing is
     graded: h(x) = min(h_max, h_min + g·dist), h_max = extent/cells, h_min = 2ℓ/cells,
     g = 8/cells, dist the distance to the nearest exchanging surface or break. Without it the
     spacing is uniform (h_max)."""
-    extent = case.body.extent_m
+    body = case.body
+    extent, inner = body.extent_m, body.inner_m
     half = mirrored_extent(case)
     upper_end = half if half is not None else extent
-    h_max = extent / cells
-    breaks = _separated(case.start.breakpoints_m, upper_end, _MIN_GAP * h_max)
+    h_max = body.wall_m / cells
+    breaks = _separated(case.start.breakpoints_m, inner, upper_end, _MIN_GAP * h_max)
     required = np.union1d(breaks, _observed_points(case, upper_end, _MIN_GAP * h_max))
-    required = np.concatenate([[0.0], required, [upper_end]])
+    required = np.concatenate([[inner], required, [upper_end]])
     features = list(breaks)
-    if case.surface.kind is not SurfaceKind.NO_FLUX:
-        if half is None:
-            features.append(extent)
-        if case.body.geometry is Geometry.SLAB:
-            features.append(0.0)
+    ends = ((case.faces.inner, inner), (case.faces.outer, extent if half is None else None))
+    features += [
+        position
+        for end, position in ends
+        if end is not None and position is not None and end.kind is not SurfaceKind.NO_FLUX
+    ]
     grade = diffusion_length_m is not None and bool(features)
     h_min = min(h_max, _GRADING_CELLS * (diffusion_length_m or 0.0) / cells) if grade else h_max
     feature_array = np.asarray(features, dtype=float)
-    faces = [np.zeros(1)]
+    faces = [np.full(1, inner)]
     total_cells = 0
     for lower, upper in pairwise(required.tolist()):
         x = np.linspace(lower, upper, _GRADING_SAMPLES)
@@ -164,9 +171,9 @@ def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> Floa
         # face (two coarser grids nested in this one) still land on every break
         count = 4 * max(1, math.ceil(0.25 * cumulative[-1] - 1e-9))
         targets = np.linspace(0.0, cumulative[-1], count + 1)[1:]
-        inner = np.interp(targets, cumulative, x)
-        inner[-1] = upper
-        faces.append(inner)
+        placed = np.interp(targets, cumulative, x)
+        placed[-1] = upper
+        faces.append(placed)
         total_cells += count
         if total_cells > _MAX_CELLS:
             raise NotApplicable(
@@ -179,14 +186,16 @@ def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> Floa
     return np.concatenate(faces)
 
 
-def _boundary_factor(kind: SurfaceKind, conductance_in: float, transfer: float) -> float:
+def _boundary_factor(surface: Surface, diffusivity: float, length: float, gap: float) -> float:
     """Surface value over the adjacent cell's value, in deviation terms."""
+    conductance_in = diffusivity / gap
+    transfer = surface.biot * diffusivity / length
     factors: dict[SurfaceKind, Callable[[], float]] = {
         SurfaceKind.NO_FLUX: lambda: 1.0,
         SurfaceKind.FIXED_VALUE: lambda: 0.0,
         SurfaceKind.CONVECTIVE: lambda: conductance_in / (conductance_in + transfer),
     }
-    return factors[kind]()
+    return factors[surface.kind]()
 
 
 class FiniteVolumeEngine:
@@ -208,22 +217,23 @@ class FiniteVolumeEngine:
         body = case.body
         m = body.metric
         diffusivity = case.medium.diffusivity_m2_per_s
-        surface = case.surface
-        is_slab = body.geometry is Geometry.SLAB
+        length = case.characteristic_length_m
         is_mirrored = faces[-1] < body.extent_m * (1 - 1e-12)
         centres = 0.5 * (faces[1:] + faces[:-1])
         volumes = (faces[1:] ** (m + 1) - faces[:-1] ** (m + 1)) / (m + 1)
         areas = faces**m
         conductance = diffusivity * areas[1:-1] / np.diff(centres)
 
-        transfer = surface.biot * diffusivity / body.characteristic_length_m
+        # each end: its condition, the area there and the gap to the nearest cell centre; past
+        # a symmetry face the outer end is sealed, and a solid body's centre is no end at all
+        outer_surface = Surface(SurfaceKind.NO_FLUX) if is_mirrored else case.faces.outer
         outer_gap = faces[-1] - centres[-1]
         inner_gap = centres[0] - faces[0]
-        outer_kind = SurfaceKind.NO_FLUX if is_mirrored else surface.kind
-        outer = self._surface_conductance(outer_kind, diffusivity, areas[-1], outer_gap, transfer)
+        outer = self._end_conductance(outer_surface, diffusivity, length, areas[-1], outer_gap)
+        inner_surface = case.faces.inner
         inner = (
-            self._surface_conductance(surface.kind, diffusivity, areas[0], inner_gap, transfer)
-            if is_slab
+            self._end_conductance(inner_surface, diffusivity, length, areas[0], inner_gap)
+            if inner_surface is not None
             else 0.0
         )
         diagonal = np.zeros(centres.size)
@@ -248,7 +258,7 @@ class FiniteVolumeEngine:
         amplitudes = vectors.T @ (root_volume * averages) / root_total
         mode_means = vectors.T @ root_volume / root_total
         keep = slice(None)
-        if surface.kind is SurfaceKind.NO_FLUX:
+        if not case.faces.exchanging:
             keep = np.arange(rates.size) != int(np.argmin(rates))
             rates, amplitudes, mode_means = rates[keep], amplitudes[keep], mode_means[keep]
         rates = np.maximum(rates, 0.0)
@@ -258,8 +268,12 @@ class FiniteVolumeEngine:
                 "case's slowest mode; use the series engine"
             )
 
-        outer_factor = _boundary_factor(outer_kind, diffusivity / outer_gap, transfer)
-        inner_factor = _boundary_factor(surface.kind, diffusivity / inner_gap, transfer)
+        outer_factor = _boundary_factor(outer_surface, diffusivity, length, outer_gap)
+        inner_factor = (
+            _boundary_factor(inner_surface, diffusivity, length, inner_gap)
+            if inner_surface is not None
+            else None
+        )
         extent = body.extent_m
         cell_modes: list[FloatArray] = []
 
@@ -277,7 +291,7 @@ class FiniteVolumeEngine:
                 faces,
                 centres,
                 modes_in_cells(),
-                inner_factor if is_slab else None,
+                inner_factor,
                 outer_factor,
             )
 
@@ -304,15 +318,17 @@ class FiniteVolumeEngine:
         )
 
     @staticmethod
-    def _surface_conductance(
-        kind: SurfaceKind, diffusivity: float, area: float, gap: float, transfer: float
+    def _end_conductance(
+        surface: Surface, diffusivity: float, length: float, area: float, gap: float
     ) -> float:
+        """Conductance from the last cell's centre to the surroundings through one end."""
+        transfer = surface.biot * diffusivity / length
         conductances: dict[SurfaceKind, Callable[[], float]] = {
             SurfaceKind.NO_FLUX: lambda: 0.0,
             SurfaceKind.FIXED_VALUE: lambda: diffusivity * area / gap,
             SurfaceKind.CONVECTIVE: lambda: area / (gap / diffusivity + 1.0 / transfer),
         }
-        return conductances[kind]()
+        return conductances[surface.kind]()
 
     @staticmethod
     def _cells(case: Case, constant: float = _CELLS_PER_QUARTER_ROOT_ACCURACY) -> int:
@@ -334,7 +350,7 @@ class FiniteVolumeEngine:
     @staticmethod
     def _grading(case: Case, cells: int, diffusion_length_m: float) -> float | None:
         """Grade only when the diffusion length is short against the body."""
-        if diffusion_length_m >= _GRADE_BELOW * case.body.extent_m:
+        if diffusion_length_m >= _GRADE_BELOW * case.body.wall_m:
             return None
         return diffusion_length_m
 

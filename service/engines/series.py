@@ -41,7 +41,7 @@ from service.engines.common import (
     TailBound,
 )
 from service.engines.spectra import FAMILIES, ModeFamily
-from service.errors import NumericalFailure
+from service.errors import NotApplicable, NumericalFailure
 from service.physics import Case, Geometry, SurfaceKind
 
 __all__ = ["SeriesEngine"]
@@ -160,11 +160,23 @@ class SeriesEngine:
         )
 
     def check(self, case: Case) -> None:
-        """Every homogeneous body of this service has an exact expansion."""
+        """The expansions here are for solid cylinders and spheres and for slabs with the same
+        condition on both faces; hollow bodies and slabs whose faces differ go to the
+        finite-volume engine."""
+        if case.body.inner_m > 0.0:
+            raise NotApplicable(
+                "the series engine covers solid cylinders and spheres; a hollow body is solved "
+                "by the finite_volume engine"
+            )
+        if not case.faces.is_alike:
+            raise NotApplicable(
+                "the series engine covers a slab with the same condition on both faces; faces "
+                "with different conditions are solved by the finite_volume engine"
+            )
 
     def _modes(self, case: Case, index: int, family: ModeFamily, count: int) -> _ModeTable:
         """The first ``count`` modes of one family (ζ, norm and mean), grown by doubling."""
-        surface = case.surface
+        surface = case.faces.outer
         biot = surface.biot if surface.kind is SurfaceKind.CONVECTIVE else 0.0
         key = (case.body.geometry, surface.kind, biot, index)
         with self._lock:
@@ -184,7 +196,7 @@ class SeriesEngine:
 
     def _spectrum(self, case: Case, count: int) -> _Spectrum:
         """The merged first ``count`` modes of every family, cached like the tables."""
-        surface = case.surface
+        surface = case.faces.outer
         biot = surface.biot if surface.kind is SurfaceKind.CONVECTIVE else 0.0
         key = (case.body.geometry, surface.kind, biot, count)
         with self._lock:
@@ -223,7 +235,7 @@ class SeriesEngine:
 
     def _build(self, case: Case, count: int, valid_from_s: float) -> ModalSolution:
         body = case.body
-        length = body.characteristic_length_m
+        length = case.characteristic_length_m
         diffusivity = case.medium.diffusivity_m2_per_s
         final = case.final_value
         start = case.start

@@ -42,9 +42,10 @@ class PositionSpec(_Strict):
         None, description="Depth below the surface (m, or 'number unit')."
     )
     at: Literal["centre", "surface"] | None = None
-    face: Literal["first", "second"] = Field(
-        "first",
-        description="Slab only: which face 'surface' and 'depth' refer to (x = 0 is first).",
+    face: Literal["first", "second", "inner", "outer"] | None = Field(
+        None,
+        description="Which face 'surface' and 'depth' refer to: a slab's 'first' (x = 0, the "
+        "default) or 'second'; a hollow body's 'outer' (the default) or 'inner'.",
     )
 
     @model_validator(mode="after")
@@ -77,8 +78,13 @@ class SlabBody(_Strict):
 
 class RadialBody(_Strict):
     shape: Literal["cylinder", "sphere"]
-    radius: Quantity | None = Field(None, description="Radius (m); r runs 0 (centre)..radius.")
-    diameter: Quantity | None = Field(None, description="Diameter (m).")
+    radius: Quantity | None = Field(
+        None, description="(Outer) radius (m); r runs 0 (centre), or the inner radius, ..radius."
+    )
+    diameter: Quantity | None = Field(None, description="(Outer) diameter (m).")
+    inner_radius: Quantity | None = Field(
+        None, description="Inner radius of a hollow body (m): a tube wall, a shell."
+    )
 
     @model_validator(mode="after")
     def _one_length(self) -> RadialBody:
@@ -220,9 +226,8 @@ class ConvectiveSurface(_Strict):
         return self
 
 
-Surface = Annotated[
-    NoFluxSurface | FixedValueSurface | ConvectiveSurface, Field(discriminator="kind")
-]
+SurfaceRequest = NoFluxSurface | FixedValueSurface | ConvectiveSurface
+Surface = Annotated[SurfaceRequest, Field(discriminator="kind")]
 
 
 class MeanSquareCriterion(_Strict):
@@ -286,11 +291,27 @@ Criterion = Annotated[
 ]
 
 
+class Faces(_Strict):
+    """A condition for each end: a slab's ``first`` (x = 0) and ``second`` (x = thickness)
+    face, or a hollow cylinder's or sphere's ``inner`` and ``outer`` surface. A solid body's
+    centre is a symmetry point, never a boundary."""
+
+    first: Surface | None = None
+    second: Surface | None = None
+    inner: Surface | None = None
+    outer: Surface | None = None
+
+
 class CaseRequest(_Strict):
     body: Body
     medium: Medium
     initial: Initial
-    surface: Surface
+    surface: Surface | None = Field(
+        None, description="One condition on every exposed surface (give this or 'faces')."
+    )
+    faces: Faces | None = Field(
+        None, description="A condition for each face or surface (give this or 'surface')."
+    )
     engine: Literal["auto", "series", "finite_volume"] = Field(
         "auto", description="'auto' runs the exact series where it applies."
     )
@@ -301,6 +322,12 @@ class CaseRequest(_Strict):
         allow_inf_nan=False,
         description="Target relative accuracy of time_s.",
     )
+
+    @model_validator(mode="after")
+    def _one_boundary(self) -> CaseRequest:
+        if (self.surface is None) == (self.faces is None):
+            raise ValueError("give exactly one of 'surface' or 'faces'")
+        return self
 
 
 class SettlingRequest(CaseRequest):

@@ -1,8 +1,8 @@
 """Plain physics objects in SI units: what a request means, with no web or validation code.
 
-A :class:`Case` is a homogeneous body (slab, long solid cylinder or solid sphere) with a
-constant diffusivity, a start given as a piecewise-linear profile across the body, one
-condition on every exposed surface and, optionally, a settling criterion. Geometry enters
+A :class:`Case` is a homogeneous body (slab, long cylinder or sphere, solid or hollow) with
+a constant diffusivity, a start given as a piecewise-linear profile across the body, a
+condition at each end of its coordinate and, optionally, a settling criterion. Geometry enters
 the numerics only as the metric exponent ``m`` (0 slab, 1 cylinder, 2 sphere).
 """
 
@@ -12,20 +12,24 @@ from service.physics.case import (
     Body,
     Case,
     Criterion,
+    Faces,
     Geometry,
     Medium,
     Start,
     Surface,
     SurfaceKind,
+    characteristic_length,
 )
 
 __all__ = [
     "Body",
     "Case",
     "Criterion",
+    "Faces",
     "Geometry",
     "Medium",
     "Start",
     "Surface",
     "SurfaceKind",
+    "characteristic_length",
 ]

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from enum import IntEnum, StrEnum
 from functools import cached_property
@@ -9,7 +10,18 @@ from functools import cached_property
 import numpy as np
 from numpy.typing import NDArray
 
-__all__ = ["Body", "Case", "Criterion", "Geometry", "Medium", "Start", "Surface", "SurfaceKind"]
+__all__ = [
+    "Body",
+    "Case",
+    "Criterion",
+    "Faces",
+    "Geometry",
+    "Medium",
+    "Start",
+    "Surface",
+    "SurfaceKind",
+    "characteristic_length",
+]
 
 FloatArray = NDArray[np.float64]
 
@@ -38,32 +50,32 @@ class SurfaceKind(StrEnum):
 
 @dataclass(frozen=True)
 class Body:
-    """A homogeneous body. ``extent_m`` is the slab's full thickness or the radius.
+    """A homogeneous body. ``extent_m`` is the slab's full thickness or the (outer) radius;
+    ``inner_m`` the inner radius of a hollow cylinder or sphere (0 for a solid one and for a
+    slab).
 
-    The coordinate runs 0..extent_m: from the first face for a slab, from the centre
-    outward for a cylinder or sphere.
+    The coordinate runs inner_m..extent_m: from the first face for a slab, outward from the
+    centre (or the inner surface) for a cylinder or sphere.
     """
 
     geometry: Geometry
     extent_m: float
+    inner_m: float = 0.0
 
     @property
     def metric(self) -> int:
         return int(self.geometry)
 
     @property
-    def characteristic_length_m(self) -> float:
-        """Half-thickness of a slab (same condition on both faces) or the radius."""
-        return self.extent_m / 2 if self.geometry is Geometry.SLAB else self.extent_m
+    def has_inner_face(self) -> bool:
+        """A slab's first face or a hollow body's inner surface; a solid body's centre is a
+        symmetry point, not a face."""
+        return self.geometry is Geometry.SLAB or self.inner_m > 0.0
 
     @property
-    def length_convention(self) -> str:
-        return "half_thickness" if self.geometry is Geometry.SLAB else "radius"
-
-    @property
-    def volume_to_area_m(self) -> float:
-        """V/A over the exposed surface: half-thickness, R/2 or R/3."""
-        return self.characteristic_length_m / (self.metric + 1)
+    def wall_m(self) -> float:
+        """The distance between the two ends: the thickness, the radius or the wall."""
+        return self.extent_m - self.inner_m
 
     def weight_integral(self, lower_m: float, upper_m: float) -> float:
         """∫ r**m dr over [lower, upper]: the body's amount per unit weight there."""
@@ -94,8 +106,8 @@ class Start:
     v1: FloatArray
 
     @classmethod
-    def uniform(cls, extent_m: float, value: float) -> Start:
-        return cls.from_pieces([(0.0, extent_m, value, value)])
+    def uniform(cls, extent_m: float, value: float, inner_m: float = 0.0) -> Start:
+        return cls.from_pieces([(inner_m, extent_m, value, value)])
 
     @classmethod
     def from_pieces(cls, pieces: list[tuple[float, float, float, float]]) -> Start:
@@ -192,12 +204,56 @@ class Start:
 
 @dataclass(frozen=True)
 class Surface:
-    """The condition on every exposed surface. ``value`` is the held value (fixed_value)
-    or the ambient value (convective); ``biot`` = k_f·Lc/D for convective surfaces."""
+    """The condition at one end. ``value`` is the held value (fixed_value) or the body-side
+    equilibrium value of the surroundings (convective: K·ambient); ``biot`` = k_eff·Lc/D for
+    convective ends, on the case's characteristic length."""
 
     kind: SurfaceKind
     value: float = 0.0
     biot: float = 0.0
+
+
+@dataclass(frozen=True)
+class Faces:
+    """The condition at each end of the body's coordinate. ``inner`` acts at x = 0 (a slab's
+    first face) or at a hollow body's inner radius, and is None at a solid body's centre (a
+    symmetry point, never a boundary); ``outer`` acts at x = thickness (the second face) or at
+    the outer radius."""
+
+    inner: Surface | None
+    outer: Surface
+
+    @classmethod
+    def alike(cls, body: Body, surface: Surface) -> Faces:
+        """The same condition on every exposed surface."""
+        return cls(surface if body.has_inner_face else None, surface)
+
+    @property
+    def ends(self) -> tuple[Surface, ...]:
+        return (self.outer,) if self.inner is None else (self.inner, self.outer)
+
+    @property
+    def exchanging(self) -> tuple[Surface, ...]:
+        """The ends through which something enters or leaves."""
+        return tuple(end for end in self.ends if end.kind is not SurfaceKind.NO_FLUX)
+
+    @property
+    def is_alike(self) -> bool:
+        """Whether every end has the same condition."""
+        return self.inner is None or self.inner == self.outer
+
+
+def characteristic_length(body: Body, faces: Faces) -> tuple[float, str]:
+    """Lc and its name: the radius of a solid cylinder or sphere; otherwise the distance
+    between the two ends (thickness, wall) when exactly one of them is sealed (the diffusion
+    path then crosses the whole body), and half of it when neither or both are. Only the kinds
+    of the ends matter, so it can be worked out before their Biot numbers."""
+    if not body.has_inner_face:
+        return body.extent_m, "radius"
+    whole = "thickness" if body.geometry is Geometry.SLAB else "wall_thickness"
+    if len(faces.exchanging) == 1:
+        return body.wall_m, whole
+    return body.wall_m / 2, "half_" + whole
 
 
 @dataclass(frozen=True)
@@ -216,24 +272,50 @@ class Case:
     body: Body
     medium: Medium
     start: Start
-    surface: Surface
+    faces: Faces
     criterion: Criterion | None = None
     accuracy: float = 1e-4
     engine: str = "auto"
 
     @property
     def body_weight(self) -> float:
-        return self.body.weight_integral(0.0, self.body.extent_m)
+        return self.body.weight_integral(self.body.inner_m, self.body.extent_m)
+
+    @property
+    def characteristic_length_m(self) -> float:
+        return characteristic_length(self.body, self.faces)[0]
+
+    @property
+    def length_convention(self) -> str:
+        return characteristic_length(self.body, self.faces)[1]
+
+    @property
+    def exchange_area(self) -> float:
+        """Σ r^m over the exchanging ends (per unit area, length and angle, as the weight)."""
+        ends = ((self.faces.inner, self.body.inner_m), (self.faces.outer, self.body.extent_m))
+        return sum(
+            radius**self.body.metric
+            for end, radius in ends
+            if end is not None and end.kind is not SurfaceKind.NO_FLUX
+        )
+
+    @property
+    def volume_to_area_m(self) -> float:
+        """V/A over the exchanging surfaces (infinite when every surface is sealed)."""
+        area = self.exchange_area
+        return self.body_weight / area if area > 0 else math.inf
 
     @cached_property
     def final_value(self) -> float:
-        """The uniform state the body tends to."""
-        if self.surface.kind is SurfaceKind.NO_FLUX:
+        """The uniform state the body tends to: the start's mean when sealed, otherwise the
+        value every exchanging end shares."""
+        exchanging = self.faces.exchanging
+        if not exchanging:
             return self.start.body_moment(self.body.metric) / self.body_weight
-        return self.surface.value
+        return exchanging[0].value
 
     @property
     def diffusion_time_s(self) -> float:
         """Lc²/D: the time unit of the Fourier number."""
-        length = self.body.characteristic_length_m
+        length = self.characteristic_length_m
         return length * length / self.medium.diffusivity_m2_per_s

@@ -65,7 +65,7 @@ def _discrete_energy(
     volumes = (faces[1:] ** (m + 1) - faces[:-1] ** (m + 1)) / (m + 1)
     conductance = d * faces[1:-1] ** m / np.diff(centres)
     interior = np.sum(conductance * np.diff(cells_u, axis=-1) ** 2, axis=-1)
-    transfer = case.surface.biot * d / case.body.characteristic_length_m
+    transfer = case.faces.outer.biot * d / case.characteristic_length_m
     gap = faces[-1] - centres[-1]
     outer = faces[-1] ** m / (gap / d + 1 / transfer)
     boundary = outer * cells_u[..., -1] ** 2
