@@ -76,32 +76,36 @@ class Facts:
 
     @classmethod
     def of(cls, case: Case) -> Facts:
-        """Facts of ``case``: its final value and the start's size about it."""
-        body = case.body
+        """Facts of ``case``: its final state and the start's deviation from it."""
         weight = case.body_weight
-        final = case.final_value
+        final = case.final_state
         start = case.start
-        max_abs = start.max_abs_deviation(final)
-        mean = start.body_moment(body.metric, shift=final) / weight
+        max_abs = final.max_abs_deviation(start)
+        mean = final.deviation_moment(start, 1) / weight
         low, high = start.value_range
-        scale = max(abs(final), abs(low), abs(high))
+        scale = max(abs(case.final_value), abs(low), abs(high))
         if max_abs <= SETTLED_FRACTION * max(scale, np.finfo(float).tiny):
             raise InvalidInput(
                 "the start already equals its final state, so there is nothing to settle",
                 "/initial",
             )
         return cls(
-            final_value=final,
+            final_value=case.final_value,
             max_abs_start=max_abs,
-            mean_square_start=start.body_moment(body.metric, shift=final, power=2) / weight,
+            mean_square_start=final.deviation_moment(start, 2) / weight,
             mean_start=mean,
             diffusivity_m2_per_s=case.medium.diffusivity_m2_per_s,
-            rsd_refusal=_rsd_refusal(case, final),
+            rsd_refusal=_rsd_refusal(case, case.final_value),
             fraction_refusal=_fraction_refusal(case, mean, scale),
         )
 
 
 def _rsd_refusal(case: Case, final: float) -> str | None:
+    if not case.final_state.is_uniform:
+        return (
+            "rsd needs a uniform final state; here the body ends in a steady profile between "
+            "its faces, so its spread never vanishes: use mean_square_deviation or max_deviation"
+        )
     if final == 0.0:
         return (
             "rsd needs a non-zero final value: the relative standard deviation divides by "
@@ -582,14 +586,10 @@ def build_measure(
         is_absolute = criterion.absolute_tolerance is not None
         level = criterion.absolute_tolerance if is_absolute else criterion.tolerance
         assert level is not None
-        start_value = float(case.start.values(np.array([criterion.position_m]))[0])
+        point = np.array([criterion.position_m])
+        start_deviation = float(case.start.values(point)[0] - case.final_state.values(point)[0])
         return ValueAt(
-            facts,
-            solution,
-            level,
-            criterion.position_m,
-            is_absolute,
-            abs(start_value - facts.final_value),
+            facts, solution, level, criterion.position_m, is_absolute, abs(start_deviation)
         )
     assert criterion.tolerance is not None
     return MEASURES[name](facts, solution, criterion.tolerance)

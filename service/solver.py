@@ -27,6 +27,7 @@ from service.settling import find_settling_time
 
 __all__ = [
     "CAUTIONS",
+    "PROFILE_FORMS",
     "WARNING_CODES",
     "HistoryAnswer",
     "SettlingAnswer",
@@ -83,7 +84,7 @@ class SettlingAnswer:
     time_s: float
     definition: str
     fourier_number: float
-    final_value: float
+    final_value: float | None
     slowest_rate_per_s: float
     slowest_excited_rate_per_s: float
     measures: dict[str, float | None]
@@ -109,7 +110,7 @@ class HistoryAnswer:
     times_s: list[float]
     measures: dict[str, list[float | None]]
     snapshots: list[Snapshot]
-    final_value: float
+    final_value: float | None
     engine: str
     resolution: int
 
@@ -175,8 +176,27 @@ def _assumptions(case: Case, facts: Facts) -> list[str]:
             f"Partition equilibrium at the surface with K = {case.medium.partition:.6g}: the "
             "body ends at K times the surroundings' value."
         )
-    assumptions.append(f"The final state is uniform at {facts.final_value:.6g}.")
+    assumptions.append(describe_final_state(case))
     return assumptions
+
+
+# The steady profiles' forms, per metric exponent (x and r in metres).
+PROFILE_FORMS = {0: "a + b·x", 1: "a + b·ln(r / 1 m)", 2: "a − b/r"}
+
+
+def describe_final_state(case: Case) -> str:
+    """One sentence on the state the body settles to."""
+    state = case.final_state
+    if state.is_uniform:
+        return f"The final state is uniform at {state.a:.6g}."
+    body = case.body
+    ends = state.values(np.array([body.inner_m, body.extent_m]))
+    return (
+        f"The final state is not uniform: the steady profile c = {PROFILE_FORMS[body.metric]} "
+        f"with a = {state.a:.6g}, b = {state.b:.6g}, from {ends[0]:.6g} at the first or inner "
+        f"end to {ends[1]:.6g} at the second or outer end; the measures compare the body with "
+        "this profile."
+    )
 
 
 def common_biot(case: Case) -> float | None:
@@ -291,7 +311,7 @@ class Solver:
             time_s=time_s,
             definition=crossing.definition,
             fourier_number=time_s / case.diffusion_time_s,
-            final_value=facts.final_value,
+            final_value=case.final_state.a if case.final_state.is_uniform else None,
             slowest_rate_per_s=self._slowest_rate(case, run.solution),
             slowest_excited_rate_per_s=excited,
             measures=values,
@@ -344,7 +364,7 @@ class Solver:
             if snapshot_count > 0
             else np.array([], dtype=int)
         )
-        profiles = solution.values_at(positions, times[chosen]) + facts.final_value
+        profiles = solution.values_at(positions, times[chosen]) + case.final_state.values(positions)
         snapshots = [
             Snapshot(float(times[i]), positions.tolist(), profile.tolist())
             for i, profile in zip(chosen, profiles, strict=True)
@@ -353,7 +373,7 @@ class Solver:
             times_s=times.tolist(),
             measures=series,
             snapshots=snapshots,
-            final_value=facts.final_value,
+            final_value=case.final_state.a if case.final_state.is_uniform else None,
             engine=solution.engine,
             resolution=solution.resolution,
         )

@@ -250,16 +250,7 @@ class _Translator:
         inner_end = (
             self.surface(ends[0][0], length, medium, ends[0][1]) if ends[0] is not None else None
         )
-        faces = Faces(inner_end, self.surface(ends[1][0], length, medium, ends[1][1]))
-        values = {end.value for end in faces.exchanging}
-        if len(values) > 1:
-            raise InvalidInput(
-                "the faces lead to different final values, so the body would end in a steady "
-                "profile across it (a membrane between two baths); this version settles bodies "
-                "whose exchanging faces share one final value",
-                "/faces",
-            )
-        return faces
+        return Faces(inner_end, self.surface(ends[1][0], length, medium, ends[1][1]))
 
     @staticmethod
     def _named_ends(

@@ -4,13 +4,16 @@ from __future__ import annotations
 
 from typing import Annotated
 
+import numpy as np
 from fastapi import Depends, Request, Response
 from pydantic import BaseModel
 
-from service.solver import Solver
+from service.models import FinalStateOut
+from service.physics import Case
+from service.solver import PROFILE_FORMS, Solver
 from service.units import Units
 
-__all__ = ["SolverDep", "UnitsDep", "json_response"]
+__all__ = ["SolverDep", "UnitsDep", "final_state_out", "json_response"]
 
 
 # The dependencies are ``async def`` because they only read app.state: a plain ``def``
@@ -40,3 +43,18 @@ def json_response(model: BaseModel, solve_seconds: float | None = None) -> Respo
         {} if solve_seconds is None else {"Server-Timing": f"solve;dur={solve_seconds * 1e3:.3f}"}
     )
     return Response(content=model.model_dump_json(), media_type="application/json", headers=headers)
+
+
+def final_state_out(case: Case) -> FinalStateOut:
+    """What the body settles to, for the response."""
+    state = case.final_state
+    if state.is_uniform:
+        return FinalStateOut(kind="uniform", value=state.a)
+    ends = state.values(np.array([case.body.inner_m, case.body.extent_m]))
+    return FinalStateOut(
+        kind="steady_profile",
+        profile=PROFILE_FORMS[case.body.metric],
+        a=state.a,
+        b=state.b,
+        end_values=[float(v) for v in ends],
+    )

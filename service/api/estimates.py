@@ -8,7 +8,7 @@ from fastapi import APIRouter, Response
 from starlette.concurrency import run_in_threadpool
 
 from service.api.cases import Translation, to_case
-from service.api.deps import SolverDep, UnitsDep, json_response
+from service.api.deps import SolverDep, UnitsDep, final_state_out, json_response
 from service.api.problems import PROBLEM_RESPONSES
 from service.models import LumpedOut, Method, SettlingRequest, SettlingResponse, WarningOut
 from service.solver import Solver, format_time
@@ -51,6 +51,7 @@ def _respond(translation: Translation, solver: Solver) -> Response:
             characteristic_length_m=case.characteristic_length_m,
             length_convention=case.length_convention,
             final_value=answer.final_value,
+            final_state=final_state_out(case),
             slowest_rate_per_s=answer.slowest_rate_per_s,
             slowest_excited_rate_per_s=rate,
             time_constant_s=1.0 / rate,

@@ -7,7 +7,7 @@ import time
 from fastapi import APIRouter, Response
 
 from service.api.cases import to_case
-from service.api.deps import SolverDep, UnitsDep, json_response
+from service.api.deps import SolverDep, UnitsDep, final_state_out, json_response
 from service.api.problems import PROBLEM_RESPONSES
 from service.models import HistoryRequest, HistoryResponse, Method, SnapshotOut
 from service.solver import CAUTIONS, common_biot
@@ -40,6 +40,7 @@ def history(request: HistoryRequest, solver: SolverDep, units: UnitsDep) -> Resp
                 for s in answer.snapshots
             ],
             final_value=answer.final_value,
+            final_state=final_state_out(translation.case),
             characteristic_length_m=translation.case.characteristic_length_m,
             length_convention=translation.case.length_convention,
             diffusivity_m2_per_s=translation.case.medium.diffusivity_m2_per_s,

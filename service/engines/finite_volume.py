@@ -254,7 +254,7 @@ class FiniteVolumeEngine:
         root_total = math.sqrt(float(np.sum(volumes)))
         if amounts is None:
             amounts = case.start.moments(m, faces[:-1], faces[1:])
-        averages = amounts / volumes - case.final_value
+        averages = (amounts - case.final_state.amounts(faces[:-1], faces[1:])) / volumes
         amplitudes = vectors.T @ (root_volume * averages) / root_total
         mode_means = vectors.T @ root_volume / root_total
         keep = slice(None)

@@ -227,7 +227,7 @@ class SeriesEngine:
         count = max(_MIN_MODES, math.ceil(zeta_needed / np.pi) + 2)
         while True:
             solution = self._build(case, count, fourier * diffusion_time)
-            scale = case.start.max_abs_deviation(case.final_value)
+            scale = case.final_state.max_abs_deviation(case.start)
             assert solution.tail is not None
             if solution.tail(solution.valid_from_s).sup <= target * scale or count >= _MAX_MODES:
                 return solution

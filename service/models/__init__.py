@@ -9,6 +9,7 @@ from service.models.requests import (
     SettlingRequest,
 )
 from service.models.responses import (
+    FinalStateOut,
     HistoryResponse,
     LumpedOut,
     Method,
@@ -21,6 +22,7 @@ from service.models.responses import (
 
 __all__ = [
     "CaseRequest",
+    "FinalStateOut",
     "HistoryRequest",
     "HistoryResponse",
     "LumpedOut",

@@ -5,6 +5,7 @@ from __future__ import annotations
 from pydantic import BaseModel, Field
 
 __all__ = [
+    "FinalStateOut",
     "HistoryResponse",
     "LumpedOut",
     "Method",
@@ -32,6 +33,23 @@ class WarningOut(BaseModel):
     message: str
 
 
+class FinalStateOut(BaseModel):
+    """The state the body settles to, which every measure compares it with."""
+
+    kind: str = Field(description="'uniform', or 'steady_profile' between two different ends.")
+    value: float | None = Field(None, description="The uniform final value.")
+    profile: str | None = Field(
+        None,
+        description="The steady profile's form: 'a + b·x' (slab, x in m), 'a + b·ln(r / 1 m)' "
+        "(cylinder) or 'a − b/r' (sphere, r in m).",
+    )
+    a: float | None = None
+    b: float | None = None
+    end_values: list[float] | None = Field(
+        None, description="The profile's values at the first (inner) and second (outer) end."
+    )
+
+
 class LumpedOut(BaseModel):
     """The lumped (uniform-body) model's answer, given when the classical Biot number on V/A
     is below 0.1: the body then stays nearly uniform and one exponential describes it."""
@@ -48,8 +66,14 @@ class SettlingResponse(BaseModel):
     time_definition: str = Field(description="'monotone' or 'last_crossing'.")
     fourier_number: float = Field(description="D·t/Lc².")
     characteristic_length_m: float
-    length_convention: str = Field(description="'half_thickness' or 'radius'.")
-    final_value: float
+    length_convention: str = Field(
+        description="'half_thickness', 'thickness' (one face sealed), 'radius', "
+        "'half_wall_thickness' or 'wall_thickness' (hollow bodies)."
+    )
+    final_value: float | None = Field(
+        description="The uniform final value; null when the body ends in a steady profile."
+    )
+    final_state: FinalStateOut
     slowest_rate_per_s: float = Field(description="D·λ1², the body's slowest mode.")
     slowest_excited_rate_per_s: float = Field(description="The slowest mode the start excites.")
     time_constant_s: float = Field(description="1/slowest_excited_rate_per_s.")
@@ -87,9 +111,10 @@ class HistoryResponse(BaseModel):
     times_s: list[float]
     measures: dict[str, list[float | None]]
     snapshots: list[SnapshotOut]
-    final_value: float
+    final_value: float | None
+    final_state: FinalStateOut
     characteristic_length_m: float
-    length_convention: str = Field(description="'half_thickness' or 'radius'.")
+    length_convention: str
     diffusivity_m2_per_s: float
     biot: float | None = None
     method: Method

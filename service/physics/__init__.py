@@ -13,12 +13,14 @@ from service.physics.case import (
     Case,
     Criterion,
     Faces,
+    FinalState,
     Geometry,
     Medium,
     Start,
     Surface,
     SurfaceKind,
     characteristic_length,
+    final_state,
 )
 
 __all__ = [
@@ -26,10 +28,12 @@ __all__ = [
     "Case",
     "Criterion",
     "Faces",
+    "FinalState",
     "Geometry",
     "Medium",
     "Start",
     "Surface",
     "SurfaceKind",
     "characteristic_length",
+    "final_state",
 ]

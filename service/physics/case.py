@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 from enum import IntEnum, StrEnum
 from functools import cached_property
@@ -306,16 +307,155 @@ class Case:
         return self.body_weight / area if area > 0 else math.inf
 
     @cached_property
+    def final_state(self) -> FinalState:
+        """The state the body settles to: uniform, or a steady profile between two ends."""
+        return final_state(self.body, self.faces, self.start, self.characteristic_length_m)
+
+    @property
     def final_value(self) -> float:
-        """The uniform state the body tends to: the start's mean when sealed, otherwise the
-        value every exchanging end shares."""
-        exchanging = self.faces.exchanging
-        if not exchanging:
-            return self.start.body_moment(self.body.metric) / self.body_weight
-        return exchanging[0].value
+        """The final state's mean over the body (its value, when uniform)."""
+        state = self.final_state
+        if state.is_uniform:
+            return state.a
+        amount = state.amounts(np.array([self.body.inner_m]), np.array([self.body.extent_m]))
+        return float(amount[0]) / self.body_weight
 
     @property
     def diffusion_time_s(self) -> float:
         """Lc²/D: the time unit of the Fourier number."""
         length = self.characteristic_length_m
         return length * length / self.medium.diffusivity_m2_per_s
+
+
+# The final state ------------------------------------------------------------------------
+# The state a body settles to: uniform, or a steady profile between two different ends.
+#
+# Notes
+# -----
+# With constant properties the steady states of ∇·(r^m ∇c) = 0 are c_f = a + b·g(r) with
+# g = x (slab), ln r (cylinder) and −1/r (sphere), so that r^m·g′ = 1. A body with one value
+# on every exchanging end (or sealed all round) settles uniformly (b = 0); a membrane or a
+# wall between two different surroundings settles to the profile through both end conditions:
+#
+#     held end e:       a + b·g(r_e) = v_e
+#     convective end e: a + b·(g(r_e) + σ_e·(Lc/Bi_e)·g′(r_e)) = v_e
+#
+# (σ = +1 at the outer end, −1 at the inner; from D·σ·c′ = k_e·(v_e − c) with k_e = Bi_e·D/Lc,
+# the flux into the body). The measures then compare c − c_f, and its moments over the body
+# are integrated here.
+
+# Gauss–Legendre nodes on [0, 1] for the deviation's moments on a steady profile: sixteen nodes per
+# piece, pieces no wider than this ratio of radii (ln r and 1/r vary by a bounded amount on
+# each), integrate (linear − a − b·g)² r^m to round-off.
+_GL16_X, _GL16_W = np.polynomial.legendre.leggauss(16)
+_GL16_X = 0.5 * (_GL16_X + 1.0)
+_GL16_W = 0.5 * _GL16_W
+_PIECE_RATIO = 1.25
+
+# g(r) and its antiderivatives against r^m, per metric exponent
+_G: dict[int, Callable[[FloatArray], FloatArray]] = {
+    0: lambda r: r,
+    1: lambda r: np.log(r),
+    2: lambda r: -1.0 / r,
+}
+# ∫ g(r)·r^m dr
+_G_MOMENT: dict[int, Callable[[FloatArray], FloatArray]] = {
+    0: lambda r: 0.5 * r**2,
+    1: lambda r: 0.5 * r**2 * np.log(r) - 0.25 * r**2,
+    2: lambda r: -0.5 * r**2,
+}
+
+
+@dataclass(frozen=True)
+class FinalState:
+    """c_f(r) = a + b·g(r); b = 0 is a uniform state at a."""
+
+    metric: int
+    a: float
+    b: float = 0.0
+
+    @property
+    def is_uniform(self) -> bool:
+        return self.b == 0.0
+
+    def values(self, positions_m: FloatArray) -> FloatArray:
+        r = np.asarray(positions_m, dtype=float)
+        if self.is_uniform:
+            return np.full(r.shape, self.a)
+        return self.a + self.b * _G[self.metric](r)
+
+    def amounts(self, lower_m: FloatArray, upper_m: FloatArray) -> FloatArray:
+        """∫ c_f r^m dr over each [lower, upper]."""
+        m = self.metric
+        lower, upper = np.asarray(lower_m, dtype=float), np.asarray(upper_m, dtype=float)
+        amounts = self.a * (upper ** (m + 1) - lower ** (m + 1)) / (m + 1)
+        if not self.is_uniform:
+            amounts = amounts + self.b * (_G_MOMENT[m](upper) - _G_MOMENT[m](lower))
+        return np.asarray(amounts, dtype=float)
+
+    def deviation_moment(self, start: Start, power: int) -> float:
+        """∫ (c0 − c_f)^power r^m dr over the body: exact for a uniform state, by Gauss–Legendre
+        on pieces of bounded radius ratio for a profile."""
+        if self.is_uniform:
+            return start.body_moment(self.metric, shift=self.a, power=power)
+        x, w = self._nodes(start)
+        return float(np.dot((start.values(x) - self.values(x)) ** power, w * x**self.metric))
+
+    def max_abs_deviation(self, start: Start) -> float:
+        """Largest |c0 − c_f|: at a segment's ends or where its slope equals c_f′ inside it."""
+        if self.is_uniform:
+            return start.max_abs_deviation(self.a)
+        ends = np.concatenate([start.v0 - self.values(start.x0), start.v1 - self.values(start.x1)])
+        largest = float(np.max(np.abs(ends)))
+        if self.metric == 0:
+            return largest  # the deviation is linear on each segment of a slab
+        # c_f′ = b·r^(−m) equals the segment's slope s at r = (b/s)^(1/m)
+        slope = (start.v1 - start.v0) / (start.x1 - start.x0)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            ratio = self.b / slope
+            inside = np.where(ratio > 0, ratio ** (1.0 / self.metric), np.nan)
+        within = (inside > start.x0) & (inside < start.x1)
+        if np.any(within):
+            r = inside[within]
+            deviation = start.v0[within] + slope[within] * (r - start.x0[within]) - self.values(r)
+            largest = max(largest, float(np.max(np.abs(deviation))))
+        return largest
+
+    def _nodes(self, start: Start) -> tuple[FloatArray, FloatArray]:
+        """Quadrature nodes and weights over the body: one piece per segment for a slab (the
+        integrand is a polynomial there), pieces of radius ratio at most 1.25 otherwise."""
+        edges = []
+        for low, high in zip(start.x0.tolist(), start.x1.tolist(), strict=True):
+            if self.metric == 0:
+                edges.append(np.array([low, high]))
+            else:
+                pieces = max(1, math.ceil(math.log(high / low) / math.log(_PIECE_RATIO)))
+                edges.append(np.geomspace(low, high, pieces + 1))
+        lower = np.concatenate([e[:-1] for e in edges])
+        upper = np.concatenate([e[1:] for e in edges])
+        width = (upper - lower)[:, None]
+        x = lower[:, None] + width * _GL16_X[None, :]
+        return x.ravel(), (width * _GL16_W[None, :]).ravel()
+
+
+def final_state(body: Body, faces: Faces, start: Start, length_m: float) -> FinalState:
+    """The state the body settles to (see the module notes); ``length_m`` is the case's Lc,
+    on which the Biot numbers are given."""
+    m = body.metric
+    exchanging = faces.exchanging
+    if not exchanging:
+        weight = body.weight_integral(body.inner_m, body.extent_m)
+        return FinalState(m, start.body_moment(m) / weight)
+    if len({end.value for end in exchanging}) == 1:
+        return FinalState(m, exchanging[0].value)
+    # both ends exchange, with different values: solve the two end conditions for (a, b)
+    assert faces.inner is not None
+    rows, rhs = [], []
+    for end, radius, sign in ((faces.inner, body.inner_m, -1.0), (faces.outer, body.extent_m, 1.0)):
+        g = float(_G[m](np.array(radius)))
+        g_slope = radius ** (-m)
+        resistance = length_m / end.biot if end.kind is SurfaceKind.CONVECTIVE else 0.0
+        rows.append([1.0, g + sign * resistance * g_slope])
+        rhs.append(end.value)
+    a, b = np.linalg.solve(np.array(rows), np.array(rhs))
+    return FinalState(m, float(a), float(b))
