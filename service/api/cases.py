@@ -49,6 +49,7 @@ class Translation:
 
     case: Case
     positions_m: dict[str, float] = field(default_factory=dict)
+    faces_given: bool = False
 
 
 def _in_range(
@@ -373,4 +374,6 @@ def to_case(request: rq.CaseRequest, units: Units) -> Translation:
         accuracy=request.accuracy,
         engine=request.engine,
     )
-    return Translation(case=case, positions_m=translator.positions)
+    return Translation(
+        case=case, positions_m=translator.positions, faces_given=request.faces is not None
+    )

@@ -9,11 +9,11 @@ from fastapi import Depends, Request, Response
 from pydantic import BaseModel
 
 from service.models import FinalStateOut
-from service.physics import Case
+from service.physics import Case, Geometry, SurfaceKind
 from service.solver import PROFILE_FORMS, Solver
 from service.units import Units
 
-__all__ = ["SolverDep", "UnitsDep", "final_state_out", "json_response"]
+__all__ = ["SolverDep", "UnitsDep", "biot_by_face", "final_state_out", "json_response"]
 
 
 # The dependencies are ``async def`` because they only read app.state: a plain ``def``
@@ -58,3 +58,16 @@ def final_state_out(case: Case) -> FinalStateOut:
         b=state.b,
         end_values=[float(v) for v in ends],
     )
+
+
+def biot_by_face(case: Case, faces_given: bool) -> dict[str, float] | None:
+    """Each convective end's Biot number by the name the request used for it."""
+    if not faces_given:
+        return None
+    names = ("first", "second") if case.body.geometry is Geometry.SLAB else ("inner", "outer")
+    ends = (case.faces.inner, case.faces.outer)
+    return {
+        name: end.biot
+        for name, end in zip(names, ends, strict=True)
+        if end is not None and end.kind is SurfaceKind.CONVECTIVE
+    }

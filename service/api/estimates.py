@@ -8,7 +8,13 @@ from fastapi import APIRouter, Response
 from starlette.concurrency import run_in_threadpool
 
 from service.api.cases import Translation, to_case
-from service.api.deps import SolverDep, UnitsDep, final_state_out, json_response
+from service.api.deps import (
+    SolverDep,
+    UnitsDep,
+    biot_by_face,
+    final_state_out,
+    json_response,
+)
 from service.api.problems import PROBLEM_RESPONSES
 from service.models import LumpedOut, Method, SettlingRequest, SettlingResponse, WarningOut
 from service.solver import Solver, format_time
@@ -64,6 +70,7 @@ def _respond(translation: Translation, solver: Solver) -> Response:
             ),
             diffusivity_m2_per_s=case.medium.diffusivity_m2_per_s,
             biot=answer.biot,
+            biot_by_face=biot_by_face(case, translation.faces_given),
             lumped=(
                 LumpedOut(
                     time_s=answer.lumped.time_s,

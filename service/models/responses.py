@@ -86,7 +86,14 @@ class SettlingResponse(BaseModel):
         description="The diffusivity used: as given, or k/(ρ·c_p) from heat inputs."
     )
     biot: float | None = Field(
-        None, description="Biot number on Lc as it enters the surface condition (convective)."
+        None,
+        description="Biot number on Lc as it enters the surface condition, when the convective "
+        "surfaces share one.",
+    )
+    biot_by_face: dict[str, float] | None = Field(
+        None,
+        description="Each convective face's Biot number on Lc, by face name, when 'faces' was "
+        "given.",
     )
     lumped: LumpedOut | None = Field(
         None,

@@ -218,3 +218,17 @@ def test_series_engine_asked_for_a_hollow_body_says_why(client: TestClient) -> N
     )
     assert response.status_code == 422
     assert response.json()["errors"][0]["pointer"] == "/engine"
+
+
+def test_each_convective_face_echoes_its_biot_number(client: TestClient) -> None:
+    body = _post(
+        client,
+        body={"shape": "slab", "thickness": "2 mm"},
+        faces={
+            "first": {"kind": "convective", "transfer_coefficient": "1e-6 m/s", "ambient": 1},
+            "second": {"kind": "fixed_value", "value": 1},
+        },
+    )
+    # Bi = k_f·Lc/D on the half-thickness (both faces exchange): 1e-6 · 1e-3 / 1e-9 = 1
+    assert body["biot_by_face"] == {"first": pytest.approx(1.0, rel=1e-12)}
+    assert body["biot"] == pytest.approx(1.0, rel=1e-12)
