@@ -39,28 +39,33 @@ class LumpedAnswer:
     biot_volume_to_area: float
 
 
-def _biot_area(case: Case) -> float | None:
-    """Σ Bi_i·A_i over the exchanging ends when every one of them is convective (a held
-    surface has no film resistance, so the body cannot stay uniform); None otherwise."""
-    body = case.body
-    ends = ((case.faces.inner, body.inner_m), (case.faces.outer, body.extent_m))
+def _end_exchange(case: Case) -> list[tuple[float, float, float]] | None:
+    """(Bi, conductivity, r^m) of each exchanging end when every one of them is convective (a
+    held surface has no film resistance, so the body cannot stay uniform); None otherwise."""
+    body, layers = case.body, case.layers
+    ends = (
+        (case.faces.inner, body.inner_m, layers[0].conductivity),
+        (case.faces.outer, body.extent_m, layers[-1].conductivity),
+    )
     exchanging = [
-        (end, radius)
-        for end, radius in ends
+        (end, radius, conductivity)
+        for end, radius, conductivity in ends
         if end is not None and end.kind is not SurfaceKind.NO_FLUX
     ]
-    if not exchanging or any(end.kind is not SurfaceKind.CONVECTIVE for end, _ in exchanging):
+    if not exchanging or any(end.kind is not SurfaceKind.CONVECTIVE for end, _, _ in exchanging):
         return None
-    return sum(end.biot * radius**body.metric for end, radius in exchanging)
+    return [
+        (end.biot, conductivity, radius**body.metric) for end, radius, conductivity in exchanging
+    ]
 
 
 def classical_biot(case: Case) -> float | None:
     """Bi on Lc = V/A (area-weighted over the exchanging ends) when every exchanging end is
     convective; None otherwise."""
-    biot_area = _biot_area(case)
-    if biot_area is None:
+    exchange = _end_exchange(case)
+    if exchange is None:
         return None
-    mean_biot = biot_area / case.exchange_area
+    mean_biot = sum(biot * area for biot, _, area in exchange) / case.exchange_area
     return mean_biot * case.volume_to_area_m / case.characteristic_length_m
 
 
@@ -99,13 +104,10 @@ def lumped_answer(case: Case, facts: Facts) -> LumpedAnswer | None:
     ratio = _decay_ratio(facts, criterion)
     if ratio is None:
         return None
-    biot_area = _biot_area(case)
-    assert biot_area is not None
-    # b = Σ k_i·A_i/V with k_i = Bi_i·D/Lc
-    rate = (
-        biot_area
-        * case.medium.diffusivity_m2_per_s
-        / (case.characteristic_length_m * case.body_weight)
-    )
+    exchange = _end_exchange(case)
+    assert exchange is not None
+    # b = Σ k_i·A_i/(Σ C·V) with k_i = Bi_i·Λ_i/Lc (Λ = D for a homogeneous body, C = 1)
+    conductance = sum(biot * conductivity * area for biot, conductivity, area in exchange)
+    rate = conductance / (case.characteristic_length_m * case.body_weight)
     time_s = math.log(1.0 / ratio) / rate if ratio < 1.0 else 0.0
     return LumpedAnswer(time_s=time_s, rate_per_s=rate, biot_volume_to_area=biot)

@@ -101,6 +101,12 @@ class Facts:
 
 
 def _rsd_refusal(case: Case, final: float) -> str | None:
+    if len({layer.partition for layer in case.layers}) > 1:
+        return (
+            "rsd compares values across the body, and a layered body's layers end at different "
+            "values (K_i times one potential): use mean_square_deviation or max_deviation, "
+            "which are taken on c/K"
+        )
     if not case.final_state.is_uniform:
         return (
             "rsd needs a uniform final state; here the body ends in a steady profile between "
@@ -584,9 +590,14 @@ def build_measure(
     if name == "value_at":
         assert criterion.position_m is not None
         is_absolute = criterion.absolute_tolerance is not None
-        level = criterion.absolute_tolerance if is_absolute else criterion.tolerance
-        assert level is not None
         point = np.array([criterion.position_m])
+        # an absolute tolerance is in value units; the engines work in the potential c/K
+        level = (
+            criterion.absolute_tolerance / float(case.partition_at(point)[0])
+            if criterion.absolute_tolerance is not None
+            else criterion.tolerance
+        )
+        assert level is not None
         start_deviation = float(case.start.values(point)[0] - case.final_state.values(point)[0])
         return ValueAt(
             facts, solution, level, criterion.position_m, is_absolute, abs(start_deviation)

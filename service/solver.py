@@ -199,6 +199,16 @@ def describe_final_state(case: Case) -> str:
     )
 
 
+def final_value_of(case: Case) -> float | None:
+    """The uniform final value in value units; None when the body ends in a profile or, being
+    layered with different partition coefficients, at a different value in each layer."""
+    state = case.final_state
+    partitions = {layer.partition for layer in case.layers}
+    if not state.is_uniform or len(partitions) > 1:
+        return None
+    return state.a * partitions.pop()
+
+
 def common_biot(case: Case) -> float | None:
     """The Biot number of the convective ends when they share one; None otherwise."""
     values = {end.biot for end in case.faces.ends if end.kind is SurfaceKind.CONVECTIVE}
@@ -311,7 +321,7 @@ class Solver:
             time_s=time_s,
             definition=crossing.definition,
             fourier_number=time_s / case.diffusion_time_s,
-            final_value=case.final_state.a if case.final_state.is_uniform else None,
+            final_value=final_value_of(case),
             slowest_rate_per_s=self._slowest_rate(case, run.solution),
             slowest_excited_rate_per_s=excited,
             measures=values,
@@ -364,7 +374,10 @@ class Solver:
             if snapshot_count > 0
             else np.array([], dtype=int)
         )
-        profiles = solution.values_at(positions, times[chosen]) + case.final_state.values(positions)
+        potential = solution.values_at(positions, times[chosen]) + case.final_state.values(
+            positions
+        )
+        profiles = potential * case.partition_at(positions)
         snapshots = [
             Snapshot(float(times[i]), positions.tolist(), profile.tolist())
             for i, profile in zip(chosen, profiles, strict=True)
@@ -373,7 +386,7 @@ class Solver:
             times_s=times.tolist(),
             measures=series,
             snapshots=snapshots,
-            final_value=case.final_state.a if case.final_state.is_uniform else None,
+            final_value=final_value_of(case),
             engine=solution.engine,
             resolution=solution.resolution,
         )

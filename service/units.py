@@ -58,6 +58,12 @@ DIMENSIONS: dict[str, Dimension] = {
     "specific_heat": Dimension(
         "[length]**2/[time]**2/[temperature]", "a specific heat capacity", "J/(kg*K)"
     ),
+    "thermal_resistance": Dimension(
+        "[temperature]*[time]**3/[mass]", "a thermal resistance per area", "m^2*K/W"
+    ),
+    "mass_transfer_resistance": Dimension(
+        "[time]/[length]", "a mass-transfer resistance per area", "s/m"
+    ),
     "heat_transfer_coefficient": Dimension(
         "[mass]/[time]**3/[temperature]", "a heat transfer coefficient", "W/(m^2*K)"
     ),

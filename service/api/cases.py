@@ -16,6 +16,7 @@ from service.physics import (
     Criterion,
     Faces,
     Geometry,
+    Layer,
     Medium,
     Start,
     Surface,
@@ -35,6 +36,8 @@ BIOT_RANGE = (0.0, 1e6)
 HOLLOW_WALL_MIN = 1e-6
 # Largest magnitude of a value (concentration, temperature), as the request models accept.
 VALUE_LIMIT = 1e12
+# Interface resistances (s/m for mass, m^2·K/W for heat); zero is no resistance.
+RESISTANCE_RANGE = (0.0, 1e12)
 # Heat inputs: wider than any real material (aerogels to diamond, gases to metals).
 CONDUCTIVITY_RANGE = (1e-6, 1e5)
 DENSITY_RANGE = (1e-3, 1e5)
@@ -63,6 +66,27 @@ def _in_range(
     return value
 
 
+# An end's material (its medium, as a Biot number needs it) and what its values are divided by
+# to be in the body's potential.
+_EndMaterial = tuple[Medium, float]
+
+
+def _end_materials(body: Body, medium: Medium) -> tuple[_EndMaterial, _EndMaterial]:
+    """(inner, outer) end materials: the medium itself for a homogeneous body; for a layered
+    one the end layers, with their partition coefficient dividing the values (φ = c/K)."""
+    if not body.layers:
+        return (medium, 1.0), (medium, 1.0)
+
+    def material(layer: Layer) -> _EndMaterial:
+        conductivity = layer.conductivity if layer.thermal else None
+        return (
+            Medium(layer.diffusivity_m2_per_s, conductivity, layer.partition),
+            layer.partition,
+        )
+
+    return material(body.layers[0]), material(body.layers[-1])
+
+
 class _Translator:
     def __init__(self, units: Units) -> None:
         self.units = units
@@ -74,6 +98,10 @@ class _Translator:
 
     def body(self, request: rq.SlabBody | rq.RadialBody) -> Body:
         geometry = _GEOMETRY[request.shape]
+        inner = self._inner_radius(request)
+        if request.layers is not None:
+            layers = self._layers(request.layers, inner)
+            return Body(geometry, layers[-1].outer_m, inner, layers)
         if isinstance(request, rq.SlabBody):
             if request.thickness is not None:
                 extent = self.length(request.thickness, "/body/thickness")
@@ -85,16 +113,70 @@ class _Translator:
         else:
             assert request.diameter is not None
             extent = self.length(request.diameter, "/body/diameter") / 2
-        inner = 0.0
-        if isinstance(request, rq.RadialBody) and request.inner_radius is not None:
-            inner = self.length(request.inner_radius, "/body/inner_radius")
-            if not inner < extent * (1 - HOLLOW_WALL_MIN):
-                raise InvalidInput(
-                    f"the inner radius ({inner:g} m) must be smaller than the outer radius "
-                    f"({extent:g} m), with a wall of at least {HOLLOW_WALL_MIN:g} of it",
-                    "/body/inner_radius",
-                )
+        if not inner < extent * (1 - HOLLOW_WALL_MIN):
+            raise InvalidInput(
+                f"the inner radius ({inner:g} m) must be smaller than the outer radius "
+                f"({extent:g} m), with a wall of at least {HOLLOW_WALL_MIN:g} of it",
+                "/body/inner_radius",
+            )
         return Body(geometry, extent, inner)
+
+    def _inner_radius(self, request: rq.SlabBody | rq.RadialBody) -> float:
+        if isinstance(request, rq.RadialBody) and request.inner_radius is not None:
+            return self.length(request.inner_radius, "/body/inner_radius")
+        return 0.0
+
+    def _layers(self, requests: list[rq.LayerRequest], inner: float) -> tuple[Layer, ...]:
+        """Each layer in the potential that is continuous across interfaces: for heat (every
+        layer gives a conductivity) T, with capacity ρ·c_p = k/α and conductivity k; for mass
+        (none does) c/K, with capacity K and conductivity D·K."""
+        media = [
+            self.medium(layer.medium, f"/body/layers/{i}/medium")
+            for i, layer in enumerate(requests)
+        ]
+        heat = [medium.conductivity_w_per_m_k is not None for medium in media]
+        if any(heat) and not all(heat):
+            first = heat.index(not heat[0])
+            raise InvalidInput(
+                "give every layer a conductivity (heat) or none (mass): the layers must describe "
+                "one kind of transport",
+                f"/body/layers/{first}/medium",
+            )
+        layers, outer = [], inner
+        for i, (layer, medium) in enumerate(zip(requests, media, strict=True)):
+            at = f"/body/layers/{i}"
+            outer += self.length(layer.thickness, at + "/thickness")
+            if medium.conductivity_w_per_m_k is not None:
+                if medium.partition != 1.0:
+                    raise InvalidInput(
+                        "a partition coefficient applies to mass transfer, not to a layer "
+                        "described for heat",
+                        at + "/medium/partition",
+                    )
+                capacity = medium.conductivity_w_per_m_k / medium.diffusivity_m2_per_s
+                conductivity, partition = medium.conductivity_w_per_m_k, 1.0
+                dimension = "thermal_resistance"
+            else:
+                capacity = medium.partition
+                conductivity = medium.diffusivity_m2_per_s * medium.partition
+                partition, dimension = medium.partition, "mass_transfer_resistance"
+            resistance = 0.0
+            if layer.interface_resistance is not None:
+                if i == len(requests) - 1:
+                    raise InvalidInput(
+                        "the last layer has no next layer to meet; give its surface condition "
+                        "in 'surface' or 'faces' instead",
+                        at + "/interface_resistance",
+                    )
+                resistance = self.quantity(
+                    layer.interface_resistance,
+                    dimension,
+                    RESISTANCE_RANGE,
+                    at + "/interface_resistance",
+                )
+            thermal = medium.conductivity_w_per_m_k is not None
+            layers.append(Layer(outer, capacity, conductivity, partition, resistance, thermal))
+        return tuple(layers)
 
     def quantity(
         self, raw: float | str, dimension: str, bounds: tuple[float, float], pointer: str
@@ -103,37 +185,31 @@ class _Translator:
         label = DIMENSIONS[dimension]
         return _in_range(value, bounds, label.label.removeprefix("a "), label.si_unit, pointer)
 
-    def medium(self, request: rq.Medium) -> Medium:
+    def medium(self, request: rq.Medium, at: str = "/medium") -> Medium:
         conductivity = (
             self.quantity(
-                request.conductivity, "conductivity", CONDUCTIVITY_RANGE, "/medium/conductivity"
+                request.conductivity, "conductivity", CONDUCTIVITY_RANGE, at + "/conductivity"
             )
             if request.conductivity is not None
             else None
         )
         if request.diffusivity is not None:
             diffusivity = self.quantity(
-                request.diffusivity,
-                "diffusivity",
-                DIFFUSIVITY_RANGE_M2_PER_S,
-                "/medium/diffusivity",
+                request.diffusivity, "diffusivity", DIFFUSIVITY_RANGE_M2_PER_S, at + "/diffusivity"
             )
         else:
             assert request.density is not None and request.specific_heat is not None
             assert conductivity is not None
-            density = self.quantity(request.density, "density", DENSITY_RANGE, "/medium/density")
+            density = self.quantity(request.density, "density", DENSITY_RANGE, at + "/density")
             specific_heat = self.quantity(
-                request.specific_heat,
-                "specific_heat",
-                SPECIFIC_HEAT_RANGE,
-                "/medium/specific_heat",
+                request.specific_heat, "specific_heat", SPECIFIC_HEAT_RANGE, at + "/specific_heat"
             )
             diffusivity = _in_range(
                 conductivity / (density * specific_heat),
                 DIFFUSIVITY_RANGE_M2_PER_S,
                 "the thermal diffusivity k/(ρ·c_p)",
                 "m^2/s",
-                "/medium",
+                at,
             )
         partition = request.partition if request.partition is not None else 1.0
         return Medium(diffusivity, conductivity, partition)
@@ -248,10 +324,21 @@ class _Translator:
             Surface(SurfaceKind(ends[1][0].kind)),
         )
         length, _ = characteristic_length(body, kinds)
+        materials = _end_materials(body, medium)
         inner_end = (
-            self.surface(ends[0][0], length, medium, ends[0][1]) if ends[0] is not None else None
+            self.surface(ends[0][0], length, materials[0], ends[0][1])
+            if ends[0] is not None
+            else None
         )
-        return Faces(inner_end, self.surface(ends[1][0], length, medium, ends[1][1]))
+        faces = Faces(inner_end, self.surface(ends[1][0], length, materials[1], ends[1][1]))
+        if body.layers and len({end.value for end in faces.exchanging}) > 1:
+            raise InvalidInput(
+                "a layered body between two different surroundings would end in a steady "
+                "profile through its layers; this version settles layered bodies whose "
+                "exchanging ends share one final value",
+                "/faces",
+            )
+        return faces
 
     @staticmethod
     def _named_ends(
@@ -287,12 +374,15 @@ class _Translator:
         return pairs[0], pairs[1]
 
     def surface(
-        self, request: rq.SurfaceRequest, length: float, medium: Medium, pointer: str
+        self, request: rq.SurfaceRequest, length: float, material: _EndMaterial, pointer: str
     ) -> Surface:
+        """One end's condition, its values in the body's potential (c, or c/K of the end
+        layer for a layered body) and its Biot number on Lc."""
+        medium, divisor = material
         if isinstance(request, rq.NoFluxSurface):
             return Surface(SurfaceKind.NO_FLUX)
         if isinstance(request, rq.FixedValueSurface):
-            return Surface(SurfaceKind.FIXED_VALUE, value=request.value)
+            return Surface(SurfaceKind.FIXED_VALUE, value=request.value / divisor)
         partition = medium.partition
         if request.biot is not None:
             biot = request.biot
@@ -330,7 +420,7 @@ class _Translator:
                 "rescale the values (any one unit will do)",
                 "/medium/partition",
             )
-        return Surface(SurfaceKind.CONVECTIVE, value=final, biot=biot)
+        return Surface(SurfaceKind.CONVECTIVE, value=final / divisor, biot=biot)
 
     @staticmethod
     def _biot(biot: float, formula: str, pointer: str) -> float:
@@ -360,8 +450,16 @@ def to_case(request: rq.CaseRequest, units: Units) -> Translation:
     """The physics case a request describes."""
     translator = _Translator(units)
     body = translator.body(request.body)
-    medium = translator.medium(request.medium)
-    start = translator.start(request.initial, body)
+    if (request.medium is None) == (not body.layers):
+        raise InvalidInput(
+            "give 'medium' for a homogeneous body, or 'body.layers' each with its own medium "
+            "(not both)",
+            "/medium",
+        )
+    medium = (
+        translator.medium(request.medium) if request.medium is not None else reference_medium(body)
+    )
+    start = in_potential(translator.start(request.initial, body), body)
     faces = translator.faces(request, body, medium)
     raw_criterion = getattr(request, "criterion", None)
     criterion = translator.criterion(raw_criterion, body) if raw_criterion is not None else None
@@ -377,3 +475,36 @@ def to_case(request: rq.CaseRequest, units: Units) -> Translation:
     return Translation(
         case=case, positions_m=translator.positions, faces_given=request.faces is not None
     )
+
+
+def reference_medium(body: Body) -> Medium:
+    """A layered body's reference diffusivity, for its Fourier number and time scales only:
+    D_ref = L²/((Σ C_i·t_i)·(Σ t_i/Λ_i)), the wall's capacity times its resistance (exact for
+    one layer; the engines use each layer's own properties)."""
+    capacity, resistance, lower = 0.0, 0.0, body.inner_m
+    for layer in body.layers:
+        thickness = layer.outer_m - lower
+        capacity += layer.capacity * thickness
+        resistance += thickness / layer.conductivity + layer.resistance
+        lower = layer.outer_m
+    return Medium(body.wall_m**2 / (capacity * resistance))
+
+
+def in_potential(start: Start, body: Body) -> Start:
+    """A layered body's start in the potential φ = c/K, split at the interfaces, each piece
+    carrying its layer's capacity; a homogeneous body's start as it is."""
+    if not body.layers:
+        return start
+    lowers = [body.inner_m] + [layer.outer_m for layer in body.layers[:-1]]
+    pieces: list[tuple[float, float, float, float]] = []
+    capacity: list[float] = []
+    for lower, layer in zip(lowers, body.layers, strict=True):
+        for x0, x1, v0, v1 in zip(start.x0, start.x1, start.v0, start.v1, strict=True):
+            low, high = max(x0, lower), min(x1, layer.outer_m)
+            if high <= low:
+                continue
+            slope = (v1 - v0) / (x1 - x0)
+            values = (v0 + slope * (low - x0), v0 + slope * (high - x0))
+            pieces.append((low, high, values[0] / layer.partition, values[1] / layer.partition))
+            capacity.append(layer.capacity)
+    return Start.from_pieces(pieces, capacity)

@@ -49,7 +49,10 @@ def final_state_out(case: Case) -> FinalStateOut:
     """What the body settles to, for the response."""
     state = case.final_state
     if state.is_uniform:
-        return FinalStateOut(kind="uniform", value=state.a)
+        layer_values = (
+            [state.a * layer.partition for layer in case.body.layers] if case.body.layers else None
+        )
+        return FinalStateOut(kind="uniform", value=state.a, layer_values=layer_values)
     ends = state.values(np.array([case.body.inner_m, case.body.extent_m]))
     return FinalStateOut(
         kind="steady_profile",

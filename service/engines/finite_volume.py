@@ -91,6 +91,7 @@ def mirrored_extent(case: Case) -> float | None:
     body = case.body
     if (
         body.geometry is Geometry.SLAB
+        and not body.layers
         and case.faces.is_alike
         and case.start.is_mirror_symmetric(body.extent_m)
     ):
@@ -141,8 +142,15 @@ def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> Floa
     half = mirrored_extent(case)
     upper_end = half if half is not None else extent
     h_max = body.wall_m / cells
-    breaks = _separated(case.start.breakpoints_m, inner, upper_end, _MIN_GAP * h_max)
-    required = np.union1d(breaks, _observed_points(case, upper_end, _MIN_GAP * h_max))
+    # layer interfaces are always faces; a break of the start closer to one than the gap
+    # shares its cell instead
+    gap = _MIN_GAP * h_max
+    interfaces = np.array([layer.outer_m for layer in body.layers[:-1]])
+    breaks = _separated(case.start.breakpoints_m, inner, upper_end, gap)
+    if interfaces.size:
+        near = np.min(np.abs(breaks[:, None] - interfaces[None, :]), axis=1) < gap
+        breaks = np.union1d(breaks[~near], interfaces)
+    required = np.union1d(breaks, _observed_points(case, upper_end, gap))
     required = np.concatenate([[inner], required, [upper_end]])
     features = list(breaks)
     ends = ((case.faces.inner, inner), (case.faces.outer, extent if half is None else None))
@@ -186,10 +194,10 @@ def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> Floa
     return np.concatenate(faces)
 
 
-def _boundary_factor(surface: Surface, diffusivity: float, length: float, gap: float) -> float:
+def _boundary_factor(surface: Surface, conductivity: float, length: float, gap: float) -> float:
     """Surface value over the adjacent cell's value, in deviation terms."""
-    conductance_in = diffusivity / gap
-    transfer = surface.biot * diffusivity / length
+    conductance_in = conductivity / gap
+    transfer = surface.biot * conductivity / length
     factors: dict[SurfaceKind, Callable[[], float]] = {
         SurfaceKind.NO_FLUX: lambda: 1.0,
         SurfaceKind.FIXED_VALUE: lambda: 0.0,
@@ -220,19 +228,38 @@ class FiniteVolumeEngine:
         length = case.characteristic_length_m
         is_mirrored = faces[-1] < body.extent_m * (1 - 1e-12)
         centres = 0.5 * (faces[1:] + faces[:-1])
-        volumes = (faces[1:] ** (m + 1) - faces[:-1] ** (m + 1)) / (m + 1)
+        # each cell's material: capacity C and conductivity Λ of its layer (1 and D when the
+        # body is homogeneous), and the interface resistance on the face after it
+        layers = case.layers
+        outers = np.array([layer.outer_m for layer in layers])
+        index = np.minimum(np.searchsorted(outers, centres), len(layers) - 1)
+        capacity = np.array([layer.capacity for layer in layers])[index]
+        conductivity = np.array([layer.conductivity for layer in layers])[index]
+        volumes = capacity * (faces[1:] ** (m + 1) - faces[:-1] ** (m + 1)) / (m + 1)
         areas = faces**m
-        conductance = diffusivity * areas[1:-1] / np.diff(centres)
+        resistance = np.where(
+            index[:-1] != index[1:],
+            np.array([layer.resistance for layer in layers])[index[:-1]],
+            0.0,
+        )
+        inner_faces = faces[1:-1]
+        conductance = areas[1:-1] / (
+            (inner_faces - centres[:-1]) / conductivity[:-1]
+            + (centres[1:] - inner_faces) / conductivity[1:]
+            + resistance
+        )
 
         # each end: its condition, the area there and the gap to the nearest cell centre; past
         # a symmetry face the outer end is sealed, and a solid body's centre is no end at all
         outer_surface = Surface(SurfaceKind.NO_FLUX) if is_mirrored else case.faces.outer
         outer_gap = faces[-1] - centres[-1]
         inner_gap = centres[0] - faces[0]
-        outer = self._end_conductance(outer_surface, diffusivity, length, areas[-1], outer_gap)
+        outer_material = float(conductivity[-1])
+        inner_material = float(conductivity[0])
+        outer = self._end_conductance(outer_surface, outer_material, length, areas[-1], outer_gap)
         inner_surface = case.faces.inner
         inner = (
-            self._end_conductance(inner_surface, diffusivity, length, areas[0], inner_gap)
+            self._end_conductance(inner_surface, inner_material, length, areas[0], inner_gap)
             if inner_surface is not None
             else 0.0
         )
@@ -254,7 +281,8 @@ class FiniteVolumeEngine:
         root_total = math.sqrt(float(np.sum(volumes)))
         if amounts is None:
             amounts = case.start.moments(m, faces[:-1], faces[1:])
-        averages = (amounts - case.final_state.amounts(faces[:-1], faces[1:])) / volumes
+        final_amounts = capacity * case.final_state.amounts(faces[:-1], faces[1:])
+        averages = (amounts - final_amounts) / volumes
         amplitudes = vectors.T @ (root_volume * averages) / root_total
         mode_means = vectors.T @ root_volume / root_total
         keep = slice(None)
@@ -268,9 +296,9 @@ class FiniteVolumeEngine:
                 "case's slowest mode; use the series engine"
             )
 
-        outer_factor = _boundary_factor(outer_surface, diffusivity, length, outer_gap)
+        outer_factor = _boundary_factor(outer_surface, outer_material, length, outer_gap)
         inner_factor = (
-            _boundary_factor(inner_surface, diffusivity, length, inner_gap)
+            _boundary_factor(inner_surface, inner_material, length, inner_gap)
             if inner_surface is not None
             else None
         )
@@ -319,14 +347,15 @@ class FiniteVolumeEngine:
 
     @staticmethod
     def _end_conductance(
-        surface: Surface, diffusivity: float, length: float, area: float, gap: float
+        surface: Surface, conductivity: float, length: float, area: float, gap: float
     ) -> float:
-        """Conductance from the last cell's centre to the surroundings through one end."""
-        transfer = surface.biot * diffusivity / length
+        """Conductance from the end cell's centre to the surroundings through one end, Λ the
+        end layer's conductivity (D when homogeneous) and Bi = k·Lc/Λ."""
+        transfer = surface.biot * conductivity / length
         conductances: dict[SurfaceKind, Callable[[], float]] = {
             SurfaceKind.NO_FLUX: lambda: 0.0,
-            SurfaceKind.FIXED_VALUE: lambda: diffusivity * area / gap,
-            SurfaceKind.CONVECTIVE: lambda: area / (gap / diffusivity + 1.0 / transfer),
+            SurfaceKind.FIXED_VALUE: lambda: conductivity * area / gap,
+            SurfaceKind.CONVECTIVE: lambda: area / (gap / conductivity + 1.0 / transfer),
         }
         return conductances[surface.kind]()
 

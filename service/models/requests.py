@@ -64,38 +64,6 @@ Position = Annotated[
 ]
 
 
-class SlabBody(_Strict):
-    shape: Literal["slab"]
-    thickness: Quantity | None = Field(None, description="Full thickness (m); x runs 0..thickness.")
-    half_thickness: Quantity | None = Field(None, description="Half the thickness (m).")
-
-    @model_validator(mode="after")
-    def _one_length(self) -> SlabBody:
-        if (self.thickness is None) == (self.half_thickness is None):
-            raise ValueError("give exactly one of 'thickness' or 'half_thickness'")
-        return self
-
-
-class RadialBody(_Strict):
-    shape: Literal["cylinder", "sphere"]
-    radius: Quantity | None = Field(
-        None, description="(Outer) radius (m); r runs 0 (centre), or the inner radius, ..radius."
-    )
-    diameter: Quantity | None = Field(None, description="(Outer) diameter (m).")
-    inner_radius: Quantity | None = Field(
-        None, description="Inner radius of a hollow body (m): a tube wall, a shell."
-    )
-
-    @model_validator(mode="after")
-    def _one_length(self) -> RadialBody:
-        if (self.radius is None) == (self.diameter is None):
-            raise ValueError("give exactly one of 'radius' or 'diameter'")
-        return self
-
-
-Body = Annotated[SlabBody | RadialBody, Field(discriminator="shape")]
-
-
 class Medium(_Strict):
     """The body's transport properties: a diffusivity, or for heat the conductivity, density and
     specific heat it follows from (α = k/(ρ·c_p)); the conductivity may also accompany a
@@ -141,6 +109,68 @@ class Medium(_Strict):
                 "diffusivity would be given twice"
             )
         return self
+
+
+class LayerRequest(_Strict):
+    """One layer of a laminate, or one shell of a cylinder or sphere (the first is the core)."""
+
+    thickness: Quantity = Field(
+        description="The layer's thickness (m); a solid body's first layer is its core, whose "
+        "thickness is its radius."
+    )
+    medium: Medium = Field(
+        description="The layer's own properties: diffusivity and partition coefficient (mass), "
+        "or conductivity with density and specific heat (heat)."
+    )
+    interface_resistance: Quantity | None = Field(
+        None,
+        description="Resistance between this layer and the next, per unit area: for mass, "
+        "s/m on the potential c/K (flux = Δ(c/K)/R); for heat, m^2*K/W (flux = ΔT/R).",
+    )
+
+
+Layers = Annotated[list[LayerRequest], Field(min_length=1, max_length=50)]
+
+
+class SlabBody(_Strict):
+    shape: Literal["slab"]
+    thickness: Quantity | None = Field(None, description="Full thickness (m); x runs 0..thickness.")
+    half_thickness: Quantity | None = Field(None, description="Half the thickness (m).")
+    layers: Layers | None = Field(
+        None, description="A laminate, from the first face (x = 0) on, in place of a size."
+    )
+
+    @model_validator(mode="after")
+    def _one_length(self) -> SlabBody:
+        given = [self.thickness, self.half_thickness, self.layers]
+        if sum(v is not None for v in given) != 1:
+            raise ValueError("give exactly one of 'thickness', 'half_thickness' or 'layers'")
+        return self
+
+
+class RadialBody(_Strict):
+    shape: Literal["cylinder", "sphere"]
+    radius: Quantity | None = Field(
+        None, description="(Outer) radius (m); r runs 0 (centre), or the inner radius, ..radius."
+    )
+    diameter: Quantity | None = Field(None, description="(Outer) diameter (m).")
+    inner_radius: Quantity | None = Field(
+        None, description="Inner radius of a hollow body (m): a tube wall, a shell."
+    )
+    layers: Layers | None = Field(
+        None,
+        description="Concentric shells from the centre (or the inner radius) outward, in place "
+        "of a size: a coated bead, a tablet coating.",
+    )
+
+    @model_validator(mode="after")
+    def _one_length(self) -> RadialBody:
+        if sum(v is not None for v in (self.radius, self.diameter, self.layers)) != 1:
+            raise ValueError("give exactly one of 'radius', 'diameter' or 'layers'")
+        return self
+
+
+Body = Annotated[SlabBody | RadialBody, Field(discriminator="shape")]
 
 
 class UniformStart(_Strict):
@@ -304,7 +334,9 @@ class Faces(_Strict):
 
 class CaseRequest(_Strict):
     body: Body
-    medium: Medium
+    medium: Medium | None = Field(
+        None, description="The body's properties (a layered body gives them per layer instead)."
+    )
     initial: Initial
     surface: Surface | None = Field(
         None, description="One condition on every exposed surface (give this or 'faces')."

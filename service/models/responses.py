@@ -37,7 +37,14 @@ class FinalStateOut(BaseModel):
     """The state the body settles to, which every measure compares it with."""
 
     kind: str = Field(description="'uniform', or 'steady_profile' between two different ends.")
-    value: float | None = Field(None, description="The uniform final value.")
+    value: float | None = Field(
+        None,
+        description="The uniform final value; for a layered body, the uniform potential c/K "
+        "(the surroundings' equivalent value).",
+    )
+    layer_values: list[float] | None = Field(
+        None, description="A layered body's final value in each layer (K_i times the potential)."
+    )
     profile: str | None = Field(
         None,
         description="The steady profile's form: 'a + b·x' (slab, x in m), 'a + b·ln(r / 1 m)' "

@@ -50,6 +50,26 @@ class SurfaceKind(StrEnum):
 
 
 @dataclass(frozen=True)
+class Layer:
+    """One layer of a layered body (a shell of a cylinder or sphere), in the potential φ that
+    is continuous across interfaces: φ = c/K for mass (capacity K, conductivity D·K), φ = T for
+    heat (capacity ρ·c_p, conductivity k). ``outer_m`` is where it ends (x from the first face,
+    or r); ``resistance`` lies between it and the next layer (potential drop per flux)."""
+
+    outer_m: float
+    capacity: float
+    conductivity: float
+    partition: float = 1.0
+    resistance: float = 0.0
+    # whether the layer is described for heat (its conductivity is then k in W/(m·K))
+    thermal: bool = False
+
+    @property
+    def diffusivity_m2_per_s(self) -> float:
+        return self.conductivity / self.capacity
+
+
+@dataclass(frozen=True)
 class Body:
     """A homogeneous body. ``extent_m`` is the slab's full thickness or the (outer) radius;
     ``inner_m`` the inner radius of a hollow cylinder or sphere (0 for a solid one and for a
@@ -62,6 +82,8 @@ class Body:
     geometry: Geometry
     extent_m: float
     inner_m: float = 0.0
+    # Layers from the inner end outward; empty for a homogeneous body (the case's medium).
+    layers: tuple[Layer, ...] = ()
 
     @property
     def metric(self) -> int:
@@ -105,25 +127,38 @@ class Start:
     x1: FloatArray
     v0: FloatArray
     v1: FloatArray
+    # Capacity of each segment's material (a layered body's K or ρ·c_p; 1 when homogeneous):
+    # amounts and means over the body are weighted by it.
+    capacity: FloatArray | None = None
 
     @classmethod
     def uniform(cls, extent_m: float, value: float, inner_m: float = 0.0) -> Start:
         return cls.from_pieces([(inner_m, extent_m, value, value)])
 
     @classmethod
-    def from_pieces(cls, pieces: list[tuple[float, float, float, float]]) -> Start:
-        kept = [piece for piece in pieces if piece[1] > piece[0]]
-        arrays = np.array(kept, dtype=float).T
-        return cls(arrays[0], arrays[1], arrays[2], arrays[3])
+    def from_pieces(
+        cls, pieces: list[tuple[float, float, float, float]], capacity: list[float] | None = None
+    ) -> Start:
+        keep = [i for i, piece in enumerate(pieces) if piece[1] > piece[0]]
+        arrays = np.array([pieces[i] for i in keep], dtype=float).T
+        weights = None if capacity is None else np.array([capacity[i] for i in keep], dtype=float)
+        return cls(arrays[0], arrays[1], arrays[2], arrays[3], weights)
+
+    @property
+    def weights(self) -> FloatArray:
+        return self.capacity if self.capacity is not None else np.ones(self.x0.size)
 
     @property
     def breakpoints_m(self) -> FloatArray:
-        """Interior points where the start jumps or bends; finite-volume faces go here."""
+        """Interior points where the start jumps or bends, or the material changes; the
+        finite-volume faces go here."""
         inner = self.x0[1:]
         jumps = self.v0[1:] != self.v1[:-1]
         slope = (self.v1 - self.v0) / (self.x1 - self.x0)
         kinks = slope[1:] != slope[:-1]
-        return np.asarray(inner[jumps | kinks], dtype=float)
+        weights = self.weights
+        interfaces = weights[1:] != weights[:-1]
+        return np.asarray(inner[jumps | kinks | interfaces], dtype=float)
 
     def values(self, positions_m: FloatArray) -> FloatArray:
         """Values at positions; exactly at a jump, the mean of both sides."""
@@ -143,8 +178,9 @@ class Start:
         shift: float = 0.0,
         power: int = 1,
     ) -> FloatArray:
-        """Exact ∫ (c − shift)**power · r**metric dr over each [lower, upper], which must each
-        lie inside one segment (finite-volume faces include every breakpoint)."""
+        """Exact ∫ C·(c − shift)**power · r**metric dr over each [lower, upper] (C the segment's
+        capacity), which must each lie inside one segment (finite-volume faces include every
+        breakpoint)."""
         lower = np.asarray(lower_m, dtype=float)
         upper = np.asarray(upper_m, dtype=float)
         mid = 0.5 * (lower + upper)
@@ -153,10 +189,11 @@ class Start:
         fraction = (x - self.x0[segment, None]) / (self.x1 - self.x0)[segment, None]
         value = self.v0[segment, None] + (self.v1 - self.v0)[segment, None] * fraction
         integrand = (value - shift) ** power * x**metric
-        return np.asarray((integrand @ _GL_W) * (upper - lower), dtype=float)
+        weight = self.weights[segment] * (upper - lower)
+        return np.asarray((integrand @ _GL_W) * weight, dtype=float)
 
     def body_moment(self, metric: int, shift: float = 0.0, power: int = 1) -> float:
-        """Exact ∫ (c − shift)**power r**metric dr over the whole body."""
+        """Exact ∫ C·(c − shift)**power r**metric dr over the whole body."""
         values, weights = self._body_nodes(metric)
         return float(np.dot((values - shift) ** power, weights))
 
@@ -164,8 +201,8 @@ class Start:
         """Start values and quadrature weights (times r**metric) at every segment's nodes."""
         cache: dict[int, tuple[FloatArray, FloatArray]] = self.__dict__.setdefault("_nodes", {})
         if metric not in cache:
-            width = (self.x1 - self.x0)[:, None]
-            x = self.x0[:, None] + width * _GL_X[None, :]
+            width = (self.x1 - self.x0)[:, None] * self.weights[:, None]
+            x = self.x0[:, None] + (self.x1 - self.x0)[:, None] * _GL_X[None, :]
             values = self.v0[:, None] + (self.v1 - self.v0)[:, None] * _GL_X[None, :]
             cache[metric] = (values.ravel(), (width * _GL_W[None, :] * x**metric).ravel())
         return cache[metric]
@@ -279,8 +316,30 @@ class Case:
     engine: str = "auto"
 
     @property
+    def layers(self) -> tuple[Layer, ...]:
+        """The body's layers; a homogeneous body is one layer of capacity 1 whose potential is
+        the value itself (its partition coefficient already folded into the surface values)."""
+        if self.body.layers:
+            return self.body.layers
+        return (Layer(self.body.extent_m, 1.0, self.medium.diffusivity_m2_per_s),)
+
+    def partition_at(self, positions_m: FloatArray) -> FloatArray:
+        """c/φ at each position: the layer's partition coefficient (1 when homogeneous, whose
+        potential is the value itself; at an interface, the outer layer's)."""
+        layers = self.layers
+        outers = np.array([layer.outer_m for layer in layers])
+        index = np.minimum(np.searchsorted(outers, positions_m, side="right"), len(layers) - 1)
+        return np.array([layer.partition for layer in layers])[index]
+
+    @property
     def body_weight(self) -> float:
-        return self.body.weight_integral(self.body.inner_m, self.body.extent_m)
+        """∫ C r^m over the body: its capacity (the volume, when homogeneous)."""
+        body = self.body
+        total, lower = 0.0, body.inner_m
+        for layer in self.layers:
+            total += layer.capacity * body.weight_integral(lower, layer.outer_m)
+            lower = layer.outer_m
+        return total
 
     @property
     def characteristic_length_m(self) -> float:
@@ -304,12 +363,15 @@ class Case:
     def volume_to_area_m(self) -> float:
         """V/A over the exchanging surfaces (infinite when every surface is sealed)."""
         area = self.exchange_area
-        return self.body_weight / area if area > 0 else math.inf
+        volume = self.body.weight_integral(self.body.inner_m, self.body.extent_m)
+        return volume / area if area > 0 else math.inf
 
     @cached_property
     def final_state(self) -> FinalState:
         """The state the body settles to: uniform, or a steady profile between two ends."""
-        return final_state(self.body, self.faces, self.start, self.characteristic_length_m)
+        return final_state(
+            self.body, self.faces, self.start, self.characteristic_length_m, self.body_weight
+        )
 
     @property
     def final_value(self) -> float:
@@ -438,14 +500,15 @@ class FinalState:
         return x.ravel(), (width * _GL16_W[None, :]).ravel()
 
 
-def final_state(body: Body, faces: Faces, start: Start, length_m: float) -> FinalState:
-    """The state the body settles to (see the module notes); ``length_m`` is the case's Lc,
-    on which the Biot numbers are given."""
+def final_state(
+    body: Body, faces: Faces, start: Start, length_m: float, capacity_m: float
+) -> FinalState:
+    """The state the body settles to (see the notes above); ``length_m`` is the case's Lc, on
+    which the Biot numbers are given, and ``capacity_m`` its ∫ C r^m."""
     m = body.metric
     exchanging = faces.exchanging
     if not exchanging:
-        weight = body.weight_integral(body.inner_m, body.extent_m)
-        return FinalState(m, start.body_moment(m) / weight)
+        return FinalState(m, start.body_moment(m) / capacity_m)
     if len({end.value for end in exchanging}) == 1:
         return FinalState(m, exchanging[0].value)
     # both ends exchange, with different values: solve the two end conditions for (a, b)
