@@ -121,7 +121,7 @@ def test_two_layer_wall_slowest_rate_matches_its_eigencondition(
 def test_sealed_layered_body_keeps_its_amount(client: TestClient) -> None:
     """Sealed all round, the potential ends at Σ K_i∫c0/K_i / Σ K_i V_i: the amount (∫c) is
     kept, shared between the layers in proportion to K_i·V_i (sphere volumes r³/3)."""
-    request = {
+    request: dict[str, Any] = {
         "body": {
             "shape": "sphere",
             "layers": [
