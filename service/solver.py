@@ -188,14 +188,13 @@ def describe_final_state(case: Case) -> str:
     """One sentence on the state the body settles to."""
     state = case.final_state
     if state.is_uniform:
-        return f"The final state is uniform at {state.a:.6g}."
+        return f"The final state is uniform at {state.value:.6g}."
     body = case.body
     ends = state.values(np.array([body.inner_m, body.extent_m]))
     return (
         f"The final state is not uniform: the steady profile c = {PROFILE_FORMS[body.metric]} "
-        f"with a = {state.a:.6g}, b = {state.b:.6g}, from {ends[0]:.6g} at the first or inner "
-        f"end to {ends[1]:.6g} at the second or outer end; the measures compare the body with "
-        "this profile."
+        f"(a, b per layer), from {ends[0]:.6g} at the first or inner end to {ends[1]:.6g} at "
+        "the second or outer end; the measures compare the body with this profile."
     )
 
 
@@ -206,7 +205,7 @@ def final_value_of(case: Case) -> float | None:
     partitions = {layer.partition for layer in case.layers}
     if not state.is_uniform or len(partitions) > 1:
         return None
-    return state.a * partitions.pop()
+    return state.value * partitions.pop()
 
 
 def common_biot(case: Case) -> float | None:

@@ -330,15 +330,7 @@ class _Translator:
             if ends[0] is not None
             else None
         )
-        faces = Faces(inner_end, self.surface(ends[1][0], length, materials[1], ends[1][1]))
-        if body.layers and len({end.value for end in faces.exchanging}) > 1:
-            raise InvalidInput(
-                "a layered body between two different surroundings would end in a steady "
-                "profile through its layers; this version settles layered bodies whose "
-                "exchanging ends share one final value",
-                "/faces",
-            )
-        return faces
+        return Faces(inner_end, self.surface(ends[1][0], length, materials[1], ends[1][1]))
 
     @staticmethod
     def _named_ends(

@@ -8,7 +8,7 @@ import numpy as np
 from fastapi import Depends, Request, Response
 from pydantic import BaseModel
 
-from service.models import FinalStateOut
+from service.models.responses import FinalStateOut, ProfilePieceOut
 from service.physics import Case, Geometry, SurfaceKind
 from service.solver import PROFILE_FORMS, Solver
 from service.units import Units
@@ -50,15 +50,19 @@ def final_state_out(case: Case) -> FinalStateOut:
     state = case.final_state
     if state.is_uniform:
         layer_values = (
-            [state.a * layer.partition for layer in case.body.layers] if case.body.layers else None
+            [state.value * layer.partition for layer in case.body.layers]
+            if case.body.layers
+            else None
         )
-        return FinalStateOut(kind="uniform", value=state.a, layer_values=layer_values)
+        return FinalStateOut(kind="uniform", value=state.value, layer_values=layer_values)
     ends = state.values(np.array([case.body.inner_m, case.body.extent_m]))
     return FinalStateOut(
         kind="steady_profile",
         profile=PROFILE_FORMS[case.body.metric],
-        a=state.a,
-        b=state.b,
+        pieces=[
+            ProfilePieceOut(from_m=low, to_m=high, a=a, b=b)
+            for low, high, a, b in zip(state.lower, state.upper, state.a, state.b, strict=True)
+        ],
         end_values=[float(v) for v in ends],
     )
 

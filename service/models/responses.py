@@ -11,6 +11,7 @@ __all__ = [
     "Method",
     "Problem",
     "ProblemItem",
+    "ProfilePieceOut",
     "SettlingResponse",
     "SnapshotOut",
     "WarningOut",
@@ -33,6 +34,13 @@ class WarningOut(BaseModel):
     message: str
 
 
+class ProfilePieceOut(BaseModel):
+    from_m: float
+    to_m: float
+    a: float
+    b: float
+
+
 class FinalStateOut(BaseModel):
     """The state the body settles to, which every measure compares it with."""
 
@@ -50,10 +58,13 @@ class FinalStateOut(BaseModel):
         description="The steady profile's form: 'a + b·x' (slab, x in m), 'a + b·ln(r / 1 m)' "
         "(cylinder) or 'a − b/r' (sphere, r in m).",
     )
-    a: float | None = None
-    b: float | None = None
+    pieces: list[ProfilePieceOut] | None = Field(
+        None, description="The profile's coefficients on each layer (one piece if homogeneous)."
+    )
     end_values: list[float] | None = Field(
-        None, description="The profile's values at the first (inner) and second (outer) end."
+        None,
+        description="The profile's values at the first (inner) and second (outer) end, in the "
+        "potential c/K of the end layers (c itself when homogeneous).",
     )
 
 

@@ -370,7 +370,7 @@ class Case:
     def final_state(self) -> FinalState:
         """The state the body settles to: uniform, or a steady profile between two ends."""
         return final_state(
-            self.body, self.faces, self.start, self.characteristic_length_m, self.body_weight
+            self.body, self.faces, self.layers, self.start, self.characteristic_length_m
         )
 
     @property
@@ -378,9 +378,13 @@ class Case:
         """The final state's mean over the body (its value, when uniform)."""
         state = self.final_state
         if state.is_uniform:
-            return state.a
-        amount = state.amounts(np.array([self.body.inner_m]), np.array([self.body.extent_m]))
-        return float(amount[0]) / self.body_weight
+            return state.value
+        lowers = _lowers(self.body, self.layers)
+        amount = sum(
+            layer.capacity * float(state.amounts(np.array([low]), np.array([layer.outer_m]))[0])
+            for low, layer in zip(lowers, self.layers, strict=True)
+        )
+        return amount / self.body_weight
 
     @property
     def diffusion_time_s(self) -> float:
@@ -430,95 +434,168 @@ _G_MOMENT: dict[int, Callable[[FloatArray], FloatArray]] = {
 
 @dataclass(frozen=True)
 class FinalState:
-    """c_f(r) = a + b·g(r); b = 0 is a uniform state at a."""
+    """c_f(r) = a_i + b_i·g(r) on each piece [lower_i, upper_i] (a layer, or the whole body);
+    every b_i = 0 with one a is a uniform state."""
 
     metric: int
-    a: float
-    b: float = 0.0
+    lower: tuple[float, ...]
+    upper: tuple[float, ...]
+    a: tuple[float, ...]
+    b: tuple[float, ...]
+
+    @classmethod
+    def uniform(cls, metric: int, value: float, inner_m: float, outer_m: float) -> FinalState:
+        return cls(metric, (inner_m,), (outer_m,), (value,), (0.0,))
 
     @property
     def is_uniform(self) -> bool:
-        return self.b == 0.0
+        return not any(self.b) and len(set(self.a)) == 1
+
+    @property
+    def value(self) -> float:
+        """The uniform value (the first piece's when not uniform)."""
+        return self.a[0]
+
+    def _piece(self, positions_m: FloatArray) -> NDArray[np.intp]:
+        uppers = np.asarray(self.upper)
+        return np.minimum(np.searchsorted(uppers, positions_m, side="left"), uppers.size - 1)
 
     def values(self, positions_m: FloatArray) -> FloatArray:
         r = np.asarray(positions_m, dtype=float)
         if self.is_uniform:
-            return np.full(r.shape, self.a)
-        return self.a + self.b * _G[self.metric](r)
+            return np.full(r.shape, self.value)
+        piece = self._piece(r)
+        a, b = np.asarray(self.a)[piece], np.asarray(self.b)[piece]
+        return np.asarray(a + b * _G[self.metric](r), dtype=float)
 
     def amounts(self, lower_m: FloatArray, upper_m: FloatArray) -> FloatArray:
-        """∫ c_f r^m dr over each [lower, upper]."""
+        """∫ c_f r^m dr over each [lower, upper], summed over the pieces it spans."""
         m = self.metric
-        lower, upper = np.asarray(lower_m, dtype=float), np.asarray(upper_m, dtype=float)
-        amounts = self.a * (upper ** (m + 1) - lower ** (m + 1)) / (m + 1)
-        if not self.is_uniform:
-            amounts = amounts + self.b * (_G_MOMENT[m](upper) - _G_MOMENT[m](lower))
-        return np.asarray(amounts, dtype=float)
+        lower = np.asarray(lower_m, dtype=float)[:, None]
+        upper = np.asarray(upper_m, dtype=float)[:, None]
+        low = np.maximum(lower, np.asarray(self.lower)[None, :])
+        high = np.maximum(low, np.minimum(upper, np.asarray(self.upper)[None, :]))
+        amounts = np.asarray(self.a)[None, :] * (high ** (m + 1) - low ** (m + 1)) / (m + 1)
+        b = np.asarray(self.b)
+        if np.any(b):
+            # only a two-ended body has a profile, so a radial one is hollow and r > 0 here
+            slope_part = _G_MOMENT[m](high) - _G_MOMENT[m](low)
+            amounts = amounts + np.where(b[None, :] != 0.0, b[None, :] * slope_part, 0.0)
+        return np.asarray(amounts.sum(axis=1), dtype=float)
 
     def deviation_moment(self, start: Start, power: int) -> float:
-        """∫ (c0 − c_f)^power r^m dr over the body: exact for a uniform state, by Gauss–Legendre
-        on pieces of bounded radius ratio for a profile."""
+        """∫ C·(c0 − c_f)^power r^m dr over the body: exact for a uniform state, by
+        Gauss–Legendre on pieces of bounded radius ratio for a profile."""
         if self.is_uniform:
-            return start.body_moment(self.metric, shift=self.a, power=power)
+            return start.body_moment(self.metric, shift=self.value, power=power)
         x, w = self._nodes(start)
         return float(np.dot((start.values(x) - self.values(x)) ** power, w * x**self.metric))
 
     def max_abs_deviation(self, start: Start) -> float:
-        """Largest |c0 − c_f|: at a segment's ends or where its slope equals c_f′ inside it."""
+        """Largest |c0 − c_f|: at a segment's ends or where its slope equals c_f′ inside it
+        (a start is split at every interface, so each segment lies in one piece)."""
         if self.is_uniform:
-            return start.max_abs_deviation(self.a)
-        ends = np.concatenate([start.v0 - self.values(start.x0), start.v1 - self.values(start.x1)])
+            return start.max_abs_deviation(self.value)
+        middle = 0.5 * (start.x0 + start.x1)
+        piece = self._piece(middle)
+        a, b = np.asarray(self.a)[piece], np.asarray(self.b)[piece]
+        g = _G[self.metric]
+        # a profile has two ends, so a radial body here is hollow and g is finite on it
+        ends = np.concatenate([start.v0 - a - b * g(start.x0), start.v1 - a - b * g(start.x1)])
         largest = float(np.max(np.abs(ends)))
         if self.metric == 0:
             return largest  # the deviation is linear on each segment of a slab
         # c_f′ = b·r^(−m) equals the segment's slope s at r = (b/s)^(1/m)
         slope = (start.v1 - start.v0) / (start.x1 - start.x0)
         with np.errstate(divide="ignore", invalid="ignore"):
-            ratio = self.b / slope
+            ratio = b / slope
             inside = np.where(ratio > 0, ratio ** (1.0 / self.metric), np.nan)
         within = (inside > start.x0) & (inside < start.x1)
         if np.any(within):
             r = inside[within]
-            deviation = start.v0[within] + slope[within] * (r - start.x0[within]) - self.values(r)
+            deviation = (
+                start.v0[within]
+                + slope[within] * (r - start.x0[within])
+                - a[within]
+                - b[within] * g(r)
+            )
             largest = max(largest, float(np.max(np.abs(deviation))))
         return largest
 
     def _nodes(self, start: Start) -> tuple[FloatArray, FloatArray]:
-        """Quadrature nodes and weights over the body: one piece per segment for a slab (the
-        integrand is a polynomial there), pieces of radius ratio at most 1.25 otherwise."""
-        edges = []
-        for low, high in zip(start.x0.tolist(), start.x1.tolist(), strict=True):
+        """Quadrature nodes and weights (times each segment's capacity) over the body: one
+        piece per segment for a slab (the integrand is a polynomial there), pieces of radius
+        ratio at most 1.25 otherwise."""
+        edges, capacity = [], []
+        for low, high, weight in zip(
+            start.x0.tolist(), start.x1.tolist(), start.weights.tolist(), strict=True
+        ):
             if self.metric == 0:
-                edges.append(np.array([low, high]))
+                cut = np.array([low, high])
             else:
-                pieces = max(1, math.ceil(math.log(high / low) / math.log(_PIECE_RATIO)))
-                edges.append(np.geomspace(low, high, pieces + 1))
+                count = max(1, math.ceil(math.log(high / low) / math.log(_PIECE_RATIO)))
+                cut = np.geomspace(low, high, count + 1)
+            edges.append(cut)
+            capacity.append(np.full(cut.size - 1, weight))
         lower = np.concatenate([e[:-1] for e in edges])
         upper = np.concatenate([e[1:] for e in edges])
-        width = (upper - lower)[:, None]
-        x = lower[:, None] + width * _GL16_X[None, :]
+        width = ((upper - lower) * np.concatenate(capacity))[:, None]
+        x = lower[:, None] + (upper - lower)[:, None] * _GL16_X[None, :]
         return x.ravel(), (width * _GL16_W[None, :]).ravel()
 
 
 def final_state(
-    body: Body, faces: Faces, start: Start, length_m: float, capacity_m: float
+    body: Body, faces: Faces, layers: tuple[Layer, ...], start: Start, length_m: float
 ) -> FinalState:
     """The state the body settles to (see the notes above); ``length_m`` is the case's Lc, on
-    which the Biot numbers are given, and ``capacity_m`` its ∫ C r^m."""
+    which the Biot numbers are given.
+
+    Between two different surroundings the steady flux per unit weight Q = −Λ_i·b_i is the
+    same through every layer, so the potential falls by Q times a series of resistances: the
+    inner film 1/(k_in·r_in^m), each layer (g(upper) − g(lower))/Λ_i, each interface
+    R_j/r_j^m and the outer film 1/(k_out·r_out^m), with k = Bi·Λ_end/Lc (a held end has no
+    film)."""
     m = body.metric
     exchanging = faces.exchanging
+    inner, outer = body.inner_m, body.extent_m
     if not exchanging:
-        return FinalState(m, start.body_moment(m) / capacity_m)
+        capacity = sum(
+            layer.capacity * body.weight_integral(low, layer.outer_m)
+            for low, layer in zip(_lowers(body, layers), layers, strict=True)
+        )
+        return FinalState.uniform(m, start.body_moment(m) / capacity, inner, outer)
     if len({end.value for end in exchanging}) == 1:
-        return FinalState(m, exchanging[0].value)
-    # both ends exchange, with different values: solve the two end conditions for (a, b)
+        return FinalState.uniform(m, exchanging[0].value, inner, outer)
     assert faces.inner is not None
-    rows, rhs = [], []
-    for end, radius, sign in ((faces.inner, body.inner_m, -1.0), (faces.outer, body.extent_m, 1.0)):
-        g = float(_G[m](np.array(radius)))
-        g_slope = radius ** (-m)
-        resistance = length_m / end.biot if end.kind is SurfaceKind.CONVECTIVE else 0.0
-        rows.append([1.0, g + sign * resistance * g_slope])
-        rhs.append(end.value)
-    a, b = np.linalg.solve(np.array(rows), np.array(rhs))
-    return FinalState(m, float(a), float(b))
+
+    def g(r: float) -> float:
+        return float(_G[m](np.array(r)))
+
+    def film(end: Surface, radius: float, conductivity: float) -> float:
+        if end.kind is not SurfaceKind.CONVECTIVE:
+            return 0.0
+        return length_m / (end.biot * conductivity * radius**m)
+
+    lowers = _lowers(body, layers)
+    inner_film = film(faces.inner, inner, layers[0].conductivity)
+    total = inner_film + film(faces.outer, outer, layers[-1].conductivity)
+    for low, layer in zip(lowers, layers, strict=True):
+        total += (g(layer.outer_m) - g(low)) / layer.conductivity
+        if layer is not layers[-1]:
+            total += layer.resistance / layer.outer_m**m
+    flux = (faces.inner.value - faces.outer.value) / total
+    potential = faces.inner.value - flux * inner_film
+    a, b = [], []
+    for low, layer in zip(lowers, layers, strict=True):
+        slope = -flux / layer.conductivity
+        a.append(potential - slope * g(low))
+        b.append(slope)
+        potential += (
+            slope * (g(layer.outer_m) - g(low)) - flux * layer.resistance / layer.outer_m**m
+        )
+    uppers = tuple(layer.outer_m for layer in layers)
+    return FinalState(m, tuple(lowers), uppers, tuple(a), tuple(b))
+
+
+def _lowers(body: Body, layers: tuple[Layer, ...]) -> list[float]:
+    return [body.inner_m] + [layer.outer_m for layer in layers[:-1]]

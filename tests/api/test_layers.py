@@ -199,20 +199,6 @@ def test_sealed_layered_body_keeps_its_amount(client: TestClient) -> None:
             {"medium": {"diffusivity": 1e-9}},
             "/medium",
         ),
-        (
-            [
-                {"thickness": 1e-3, "medium": {"diffusivity": 1e-9}},
-                {"thickness": 1e-3, "medium": {"diffusivity": 1e-9, "partition": 2}},
-            ],
-            {
-                "surface": None,
-                "faces": {
-                    "first": {"kind": "fixed_value", "value": 1},
-                    "second": {"kind": "fixed_value", "value": 0},
-                },
-            },
-            "/faces",
-        ),
     ],
 )
 def test_layer_errors_name_the_field(
@@ -229,3 +215,78 @@ def test_layer_errors_name_the_field(
     response = client.post("/v1/settling-time", json=request)
     assert response.status_code == 422, response.text
     assert pointer in [e["pointer"] for e in response.json()["errors"]]
+
+
+def test_composite_wall_settles_to_the_resistance_network(client: TestClient) -> None:
+    """Heat through a plane wall of two layers — 20 mm of k = 0.8 W/(m·K) and 50 mm of
+    insulation, k = 0.04 — between air at 20 °C (h = 10 W/(m²·K)) and −5 °C (h = 25), with a
+    contact resistance of 0.01 m²·K/W between them. In series: R = 1/10 + 0.02/0.8 + 0.01 +
+    0.05/0.04 + 1/25 = 1.425 m²·K/W, q = 25/1.425 W/m², and each surface and interface sits
+    at the temperature the running sum of resistances gives (the thermal-resistance network
+    of steady conduction; common practice in the heat-transfer textbooks)."""
+    body = _post(
+        client,
+        body={
+            "shape": "slab",
+            "layers": [
+                {
+                    "thickness": "20 mm",
+                    "medium": {"conductivity": 0.8, "density": 1800, "specific_heat": 900},
+                    "interface_resistance": "0.01 m^2*K/W",
+                },
+                {
+                    "thickness": "50 mm",
+                    "medium": {"conductivity": 0.04, "density": 30, "specific_heat": 1400},
+                },
+            ],
+        },
+        initial={"kind": "uniform", "value": 20},
+        faces={
+            "first": {"kind": "convective", "heat_transfer_coefficient": 10, "ambient": 20},
+            "second": {"kind": "convective", "heat_transfer_coefficient": 25, "ambient": -5},
+        },
+        criterion={"measure": "max_deviation", "tolerance": 0.01},
+    )
+    q = 25.0 / (1 / 10 + 0.02 / 0.8 + 0.01 + 0.05 / 0.04 + 1 / 25)
+    inner_surface = 20 - q / 10
+    before_contact = inner_surface - q * 0.02 / 0.8
+    after_contact = before_contact - q * 0.01
+    outer_surface = after_contact - q * 0.05 / 0.04
+    state = body["final_state"]
+    assert state["kind"] == "steady_profile"
+    assert state["end_values"] == pytest.approx([inner_surface, outer_surface], rel=1e-12)
+    first, second = state["pieces"]
+    assert first["a"] + first["b"] * 0.02 == pytest.approx(before_contact, rel=1e-12)
+    assert second["a"] + second["b"] * 0.02 == pytest.approx(after_contact, rel=1e-12)
+    assert outer_surface == pytest.approx(-5 + q / 25, rel=1e-12)
+
+
+def test_layers_of_one_material_between_two_surroundings_are_the_membrane(
+    client: TestClient,
+) -> None:
+    faces = {
+        "first": {"kind": "fixed_value", "value": 1},
+        "second": {"kind": "convective", "biot": 1.5, "ambient": 0},
+    }
+    medium = {"diffusivity": "1e-9 m^2/s"}
+    common: dict[str, Any] = {
+        "initial": {"kind": "uniform", "value": 0},
+        "faces": faces,
+        "criterion": CRITERION,
+    }
+    membrane = _post(client, body={"shape": "slab", "thickness": "1 mm"}, medium=medium, **common)
+    layered = _post(
+        client,
+        body={
+            "shape": "slab",
+            "layers": [
+                {"thickness": "0.3 mm", "medium": medium},
+                {"thickness": "0.7 mm", "medium": medium},
+            ],
+        },
+        **common,
+    )
+    assert layered["time_s"] == pytest.approx(membrane["time_s"], rel=1e-5)
+    assert layered["final_state"]["end_values"] == pytest.approx(
+        membrane["final_state"]["end_values"], rel=1e-12
+    )

@@ -17,8 +17,10 @@ def _post(client: TestClient, endpoint: str = "/v1/settling-time", **request: An
 
 
 def _profile(state: dict[str, Any], shape: str, r: float) -> float:
+    """The final state's profile at r, from the piece (layer) that holds it."""
     g = {"slab": r, "cylinder": math.log(r), "sphere": -1.0 / r}[shape]
-    return float(state["a"] + state["b"] * g)
+    piece = next(p for p in state["pieces"] if p["from_m"] <= r <= p["to_m"])
+    return float(piece["a"] + piece["b"] * g)
 
 
 HELD = {
