@@ -71,6 +71,11 @@ class Facts:
     mean_square_start: float
     mean_start: float
     diffusivity_m2_per_s: float
+    # the body's capacity ∫C r^m, what it holds at the start (∫C·φ0 r^m) and, with a bath,
+    # the bath's starting deviation from the final state
+    capacity: float
+    amount_start: float
+    bath_start_deviation: float | None
     rsd_refusal: str | None
     fraction_refusal: str | None
 
@@ -95,6 +100,11 @@ class Facts:
             mean_square_start=final.deviation_moment(start, 2) / weight,
             mean_start=mean,
             diffusivity_m2_per_s=case.medium.diffusivity_m2_per_s,
+            capacity=weight,
+            amount_start=start.body_moment(case.body.metric),
+            bath_start_deviation=(
+                case.bath.start_value - final.value if case.bath is not None else None
+            ),
             rsd_refusal=_rsd_refusal(case, case.final_value),
             fraction_refusal=_fraction_refusal(case, mean, scale),
         )
@@ -394,8 +404,12 @@ class _SignedSum(Measure):
     @abstractmethod
     def _scale(self) -> float: ...
 
+    def _rates(self) -> FloatArray:
+        """The rates the terms decay at, ascending (the solution's modes unless overridden)."""
+        return self.solution.rates_per_s
+
     def signed(self, times_s: FloatArray) -> FloatArray:
-        decay = self.solution.decay(times_s)
+        decay = np.exp(-np.outer(np.asarray(times_s, dtype=float), self._rates()))
         return np.asarray(decay @ self._coefficients())
 
     def values(self, times_s: FloatArray) -> FloatArray:
@@ -404,7 +418,7 @@ class _SignedSum(Measure):
     @cached_property
     def _scaled(self) -> tuple[FloatArray, FloatArray]:
         """−λ_k and c_k/scale, for the scalar path of the search."""
-        return -self.solution.rates_per_s, self._coefficients() / self._scale()
+        return -self._rates(), self._coefficients() / self._scale()
 
     def value(self, time_s: float) -> float:
         exponents, terms = self._scaled
@@ -437,7 +451,7 @@ class _SignedSum(Measure):
         From then on the sum keeps the sign of c_1 and its magnitude falls, so the measure is
         monotone."""
         coefficients = self._coefficients()
-        rates = self.solution.rates_per_s
+        rates = self._rates()
         size = np.abs(coefficients)
         if float(size.max()) == 0.0:
             return floor_s
@@ -515,6 +529,88 @@ class FractionEquilibrated(_SignedSum):
         return np.asarray(1.0 - self.signed(times_s) / self.facts.mean_start)
 
 
+class BathMeanSquare(_SignedSum):
+    """⟨u²⟩(t)/⟨u²⟩(0) over the body when a bath shares its modes: the modes are orthonormal
+    over body and bath together, so the body's part is Σ_{k≤l} (2 − δ_kl)·b_k·b_l·(δ_kl −
+    α·ψ_bk·ψ_bl)·e^{−(λ_k+λ_l)t}, a sum of exponentials at the pair rates. No bound makes it
+    monotone from the start (the bath feeds the body back), so its last crossing is sought."""
+
+    name = "mean_square_deviation"
+
+    @cached_property
+    def _pairs(self) -> tuple[FloatArray, FloatArray]:
+        solution = self.solution
+        assert solution.bath_basis is not None
+        b, rates, bath = solution.amplitudes, solution.rates_per_s, solution.bath_basis
+        k, ell = np.triu_indices(b.size)
+        gram = (k == ell).astype(float) - solution.bath_ratio * bath[k] * bath[ell]
+        coefficients = np.where(k == ell, 1.0, 2.0) * b[k] * b[ell] * gram
+        pair_rates = rates[k] + rates[ell]
+        order = np.argsort(pair_rates, kind="stable")
+        return pair_rates[order], coefficients[order]
+
+    def _rates(self) -> FloatArray:
+        return self._pairs[0]
+
+    def _coefficients(self) -> FloatArray:
+        return self._pairs[1]
+
+    def _scale(self) -> float:
+        return self.facts.mean_square_start
+
+    def initial_value(self) -> float:
+        return 1.0
+
+    def truncation(self, tail: TailBound) -> float:
+        return tail.square / self.facts.mean_square_start
+
+
+class BathValue(_SignedSum):
+    """|u_bath(t)| over its starting deviation (relative) or in value units (absolute)."""
+
+    name = "bath_value"
+
+    def __init__(self, facts: Facts, solution: ModalSolution, level: float, is_absolute: bool):
+        super().__init__(facts, solution, level)
+        self.is_absolute = is_absolute
+
+    def _coefficients(self) -> FloatArray:
+        assert self.solution.bath_basis is not None
+        return self.solution.amplitudes * self.solution.bath_basis
+
+    def _scale(self) -> float:
+        deviation = self.facts.bath_start_deviation
+        return 1.0 if self.is_absolute or deviation is None else abs(deviation)
+
+    def initial_value(self) -> float:
+        return abs(self.facts.bath_start_deviation or 0.0) / self._scale()
+
+
+class RemainingFraction(_SignedSum):
+    """M(t)/M(0), the share of its starting amount the body still holds (how rinses and
+    dialysis are judged). It ends at W·φ_f/M(0); the criterion M(t)/M(0) ≤ f is taken as
+    |M(t) − W·φ_f| ≤ (f − W·φ_f/M(0))·M(0), which is the same while the body is above its
+    final amount and stricter if it ever dipped below it."""
+
+    name = "remaining_fraction"
+
+    def _coefficients(self) -> FloatArray:
+        facts = self.facts
+        return self.solution.amplitudes * self.solution.mode_means * facts.capacity
+
+    def _scale(self) -> float:
+        return abs(self.facts.amount_start)
+
+    def initial_value(self) -> float:
+        facts = self.facts
+        return abs(facts.amount_start - facts.capacity * facts.final_value) / self._scale()
+
+    def reported(self, times_s: FloatArray) -> FloatArray:
+        facts = self.facts
+        held = facts.capacity * facts.final_value + self.signed(times_s)
+        return np.asarray(held / facts.amount_start)
+
+
 class RelativeStandardDeviation(Measure):
     """√(⟨u²⟩ − ⟨u⟩²)/|c_final + ⟨u⟩|, an absolute level as blend-uniformity limits are written."""
 
@@ -571,6 +667,8 @@ MEASURES: dict[str, type[Measure]] = {
         DirichletEnergy,
         FractionEquilibrated,
         ValueAt,
+        BathValue,
+        RemainingFraction,
     )
 }
 
@@ -582,6 +680,17 @@ def build_measure(
     name = criterion.measure
     if name == "rsd" and facts.rsd_refusal:
         raise InvalidInput(facts.rsd_refusal, "/criterion/measure")
+    with_bath = solution.bath_basis is not None
+    if with_bath and name in _NOT_WITH_BATH:
+        raise InvalidInput(_NOT_WITH_BATH[name], "/criterion/measure")
+    if name == "mean_square_deviation" and with_bath:
+        assert criterion.tolerance is not None
+        return BathMeanSquare(facts, solution, criterion.tolerance)
+    if name == "bath_value":
+        return _bath_value(case, facts, solution, criterion)
+    if name == "remaining_fraction":
+        assert criterion.fraction is not None
+        return _remaining_fraction(facts, solution, criterion.fraction)
     if name == "fraction_equilibrated":
         if facts.fraction_refusal:
             raise InvalidInput(facts.fraction_refusal, "/criterion/measure")
@@ -606,6 +715,53 @@ def build_measure(
     return MEASURES[name](facts, solution, criterion.tolerance)
 
 
+_NOT_WITH_BATH = {
+    "max_deviation": "max_deviation is not proven monotone for a body coupled to a finite "
+    "bath (the bath can push the body's largest deviation up again); use "
+    "mean_square_deviation, value_at or fraction_equilibrated",
+    "dirichlet_energy": "the gradient energy is not defined here for a body coupled to a "
+    "finite bath; use mean_square_deviation",
+    "rsd": "rsd is not offered for a body coupled to a finite bath; use mean_square_deviation",
+}
+
+
+def _bath_value(
+    case: Case, facts: Facts, solution: ModalSolution, criterion: Criterion
+) -> BathValue:
+    bath = case.bath
+    if bath is None or solution.bath_basis is None:
+        raise InvalidInput("bath_value needs a 'bath'", "/criterion/measure")
+    if criterion.absolute_tolerance is not None:
+        return BathValue(facts, solution, criterion.absolute_tolerance * bath.to_potential, True)
+    if not facts.bath_start_deviation:
+        raise InvalidInput(
+            "the bath starts at its final value, so a tolerance relative to its starting "
+            "deviation means nothing; give 'absolute_tolerance'",
+            "/criterion/tolerance",
+        )
+    assert criterion.tolerance is not None
+    return BathValue(facts, solution, criterion.tolerance, False)
+
+
+def _remaining_fraction(
+    facts: Facts, solution: ModalSolution, fraction: float
+) -> RemainingFraction:
+    if not abs(facts.amount_start) > 0.0:
+        raise InvalidInput(
+            "remaining_fraction needs a body that starts holding something (its amount is "
+            "counted from zero of the value units)",
+            "/criterion/measure",
+        )
+    ends_with = facts.capacity * facts.final_value / facts.amount_start
+    if not ends_with < fraction:
+        raise InvalidInput(
+            f"the body keeps {ends_with:.4g} of its starting amount at equilibrium, so it never "
+            f"gets down to {fraction:g}; a larger bath or bath exchanges would",
+            "/criterion/fraction",
+        )
+    return RemainingFraction(facts, solution, fraction - ends_with)
+
+
 def defined_measures(
     case: Case,
     facts: Facts,
@@ -616,9 +772,20 @@ def defined_measures(
     """Every measure defined for the case (value_at only when the criterion names a point),
     the criterion's own measure reused when given, the others at level 1."""
     out: dict[str, Measure] = {}
+    with_bath = solution.bath_basis is not None
     for name, cls in MEASURES.items():
         if criterion_measure is not None and name == criterion_measure.name:
             out[name] = criterion_measure
+        elif with_bath and name in _NOT_WITH_BATH:
+            continue
+        elif name == "mean_square_deviation" and with_bath:
+            out[name] = BathMeanSquare(facts, solution, 1.0)
+        elif name == "bath_value":
+            if with_bath and facts.bath_start_deviation:
+                out[name] = BathValue(facts, solution, 1.0, False)
+        elif name == "remaining_fraction":
+            if with_bath and abs(facts.amount_start) > 0.0:
+                out[name] = RemainingFraction(facts, solution, 1.0)
         elif (name == "rsd" and facts.rsd_refusal) or (
             name == "fraction_equilibrated" and facts.fraction_refusal
         ):

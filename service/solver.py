@@ -110,6 +110,7 @@ class HistoryAnswer:
     times_s: list[float]
     measures: dict[str, list[float | None]]
     snapshots: list[Snapshot]
+    bath_values: list[float] | None
     final_value: float | None
     engine: str
     resolution: int
@@ -381,10 +382,16 @@ class Solver:
             Snapshot(float(times[i]), positions.tolist(), profile.tolist())
             for i, profile in zip(chosen, profiles, strict=True)
         ]
+        bath_values = None
+        if case.bath is not None and solution.bath_basis is not None:
+            deviation = solution.weighted(times) @ solution.bath_basis
+            potential = case.final_state.value + deviation
+            bath_values = [float(v) for v in potential / case.bath.to_potential]
         return HistoryAnswer(
             times_s=times.tolist(),
             measures=series,
             snapshots=snapshots,
+            bath_values=bath_values,
             final_value=final_value_of(case),
             engine=solution.engine,
             resolution=solution.resolution,

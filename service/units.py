@@ -51,6 +51,8 @@ DIMENSIONS: dict[str, Dimension] = {
     "time": Dimension("[time]", "a time", "s"),
     "diffusivity": Dimension("[length]**2/[time]", "a diffusivity (length²/time)", "m^2/s"),
     "velocity": Dimension("[length]/[time]", "a transfer coefficient (length/time)", "m/s"),
+    "area": Dimension("[length]**2", "an area", "m^2"),
+    "volume": Dimension("[length]**3", "a volume", "m^3"),
     "conductivity": Dimension(
         "[mass]*[length]/[time]**3/[temperature]", "a thermal conductivity", "W/(m*K)"
     ),

@@ -6,11 +6,14 @@ what a word like "surface" or a depth meant, in metres.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+import math
+from collections.abc import Callable
+from dataclasses import dataclass, field, replace
 
 from service.errors import InvalidInput
 from service.models import requests as rq
 from service.physics import (
+    Bath,
     Body,
     Case,
     Criterion,
@@ -38,6 +41,9 @@ HOLLOW_WALL_MIN = 1e-6
 VALUE_LIMIT = 1e12
 # Interface resistances (s/m for mass, m^2·K/W for heat); zero is no resistance.
 RESISTANCE_RANGE = (0.0, 1e12)
+# A bath's volume (m³) and a slab's face area (m²).
+VOLUME_RANGE = (1e-24, 1e9)
+AREA_RANGE = (1e-18, 1e8)
 # Heat inputs: wider than any real material (aerogels to diamond, gases to metals).
 CONDUCTIVITY_RANGE = (1e-6, 1e5)
 DENSITY_RANGE = (1e-3, 1e5)
@@ -375,37 +381,12 @@ class _Translator:
             return Surface(SurfaceKind.NO_FLUX)
         if isinstance(request, rq.FixedValueSurface):
             return Surface(SurfaceKind.FIXED_VALUE, value=request.value / divisor)
-        partition = medium.partition
-        if request.biot is not None:
-            biot = request.biot
-        elif request.transfer_coefficient is not None:
-            where = pointer + "/transfer_coefficient"
-            coefficient = self.units.to_si(request.transfer_coefficient, "velocity", where)
-            biot = self._biot(
-                coefficient * length / (partition * medium.diffusivity_m2_per_s),
-                "k_f·Lc/(K·D)",
-                where,
-            )
-        else:
-            assert request.heat_transfer_coefficient is not None
-            where = pointer + "/heat_transfer_coefficient"
-            if medium.conductivity_w_per_m_k is None:
-                raise InvalidInput(
-                    "a heat transfer coefficient needs the medium's 'conductivity' (Bi = h·Lc/k); "
-                    "give it beside the diffusivity, or give the Biot number",
-                    where,
-                )
-            if partition != 1.0:
-                raise InvalidInput(
-                    "a partition coefficient applies to mass transfer; with a heat transfer "
-                    "coefficient the body's surface comes to the surroundings' temperature",
-                    "/medium/partition",
-                )
-            coefficient = self.units.to_si(
-                request.heat_transfer_coefficient, "heat_transfer_coefficient", where
-            )
-            biot = self._biot(coefficient * length / medium.conductivity_w_per_m_k, "h·Lc/k", where)
-        final = partition * request.ambient
+        if isinstance(request, rq.BathSurface):
+            film = self._film_biot(request, length, medium, pointer)
+            return Surface(SurfaceKind.BATH, biot=film if film is not None else 0.0)
+        biot = self._film_biot(request, length, medium, pointer)
+        assert biot is not None
+        final = medium.partition * request.ambient
         if abs(final) > VALUE_LIMIT:
             raise InvalidInput(
                 f"the body's final value K·ambient = {final:.3g} is beyond ±{VALUE_LIMIT:g}; "
@@ -413,6 +394,114 @@ class _Translator:
                 "/medium/partition",
             )
         return Surface(SurfaceKind.CONVECTIVE, value=final / divisor, biot=biot)
+
+    def _film_biot(
+        self,
+        request: rq.ConvectiveSurface | rq.BathSurface,
+        length: float,
+        medium: Medium,
+        pointer: str,
+    ) -> float | None:
+        """The Biot number on Lc of a surface's film, from whichever coefficient it gives."""
+        partition = medium.partition
+        if request.biot is not None:
+            return request.biot
+        if request.transfer_coefficient is not None:
+            where = pointer + "/transfer_coefficient"
+            coefficient = self.units.to_si(request.transfer_coefficient, "velocity", where)
+            return self._biot(
+                coefficient * length / (partition * medium.diffusivity_m2_per_s),
+                "k_f·Lc/(K·D)",
+                where,
+            )
+        if request.heat_transfer_coefficient is None:
+            return None
+        where = pointer + "/heat_transfer_coefficient"
+        if medium.conductivity_w_per_m_k is None:
+            raise InvalidInput(
+                "a heat transfer coefficient needs the medium's 'conductivity' (Bi = h·Lc/k); "
+                "give it beside the diffusivity, or give the Biot number",
+                where,
+            )
+        if partition != 1.0:
+            raise InvalidInput(
+                "a partition coefficient applies to mass transfer; with a heat transfer "
+                "coefficient the body's surface comes to the surroundings' temperature",
+                "/medium/partition",
+            )
+        coefficient = self.units.to_si(
+            request.heat_transfer_coefficient, "heat_transfer_coefficient", where
+        )
+        return self._biot(coefficient * length / medium.conductivity_w_per_m_k, "h·Lc/k", where)
+
+    def bath(self, request: rq.CaseRequest, case: Case) -> Bath | None:
+        """The bath, in the body's potential: its capacity ratio α and starting value."""
+        touching = [end for end in case.faces.ends if end.kind is SurfaceKind.BATH]
+        if request.bath is None:
+            if touching:
+                raise InvalidInput(
+                    "a surface of kind 'bath' needs a top-level 'bath'", _boundary_pointer(request)
+                )
+            return None
+        if not touching:
+            raise InvalidInput(
+                "the bath touches no surface: give the surfaces in it the kind 'bath'",
+                _boundary_pointer(request),
+            )
+        others = [
+            e for e in case.faces.ends if e.kind not in (SurfaceKind.BATH, SurfaceKind.NO_FLUX)
+        ]
+        if others:
+            raise InvalidInput(
+                "with a finite bath, every other surface must be sealed ('no_flux'): the body "
+                "and its bath then share what they hold",
+                _boundary_pointer(request),
+            )
+        body = case.body
+        # the bath's concentration times this is its value in the body's potential: K for a
+        # homogeneous body (which works in c), 1 for a layered one (which works in c/K)
+        to_potential = case.medium.partition if not body.layers else 1.0
+        ratio = request.bath.capacity_ratio
+        if ratio is None:
+            assert request.bath.volume is not None
+            bath_volume = self.quantity(request.bath.volume, "volume", VOLUME_RANGE, "/bath/volume")
+            if any(layer.thermal for layer in body.layers) or (
+                case.medium.conductivity_w_per_m_k is not None
+            ):
+                raise InvalidInput(
+                    "for heat, give the bath's 'capacity_ratio' (ρc·V of the bath over the "
+                    "body's): a volume alone does not say how much heat the bath holds",
+                    "/bath/volume",
+                )
+            ratio = bath_volume / (case.medium.partition * self._body_volume(request, case))
+        return Bath(ratio, request.bath.value * to_potential, to_potential)
+
+    def _body_volume(self, request: rq.CaseRequest, case: Case) -> float:
+        """The body's K-weighted volume ∫K dV (its plain volume when homogeneous, whose K
+        enters the ratio separately)."""
+        body = case.body
+        # ∫ C r^m dr is per unit face area (slab), per unit length and radian (cylinder) or
+        # per steradian (sphere)
+        weight = case.body_weight
+        scale: dict[Geometry, Callable[[], float]] = {
+            Geometry.SLAB: lambda: self._size(request.body, "face_area", "area", "/body/face_area"),
+            Geometry.CYLINDER: lambda: (
+                2 * math.pi * self._size(request.body, "length", "length", "/body/length")
+            ),
+            Geometry.SPHERE: lambda: 4 * math.pi,
+        }
+        return weight * scale[body.geometry]()
+
+    def _size(self, body: rq.SlabBody | rq.RadialBody, name: str, dimension: str, at: str) -> float:
+        raw = getattr(body, name, None)
+        if raw is None:
+            raise InvalidInput(
+                f"a bath given by its volume needs the body's '{name}' (or give the bath's "
+                "'capacity_ratio')",
+                at,
+            )
+        bounds = AREA_RANGE if dimension == "area" else LENGTH_RANGE_M
+        return self.quantity(raw, dimension, bounds, at)
 
     @staticmethod
     def _biot(biot: float, formula: str, pointer: str) -> float:
@@ -433,8 +522,14 @@ class _Translator:
                 position_m=position,
                 absolute_tolerance=request.absolute_tolerance,
             )
-        if isinstance(request, rq.FractionCriterion):
-            return Criterion("fraction_equilibrated", fraction=request.fraction)
+        if isinstance(request, rq.FractionCriterion | rq.RemainingFractionCriterion):
+            return Criterion(request.measure, fraction=request.fraction)
+        if isinstance(request, rq.BathValueCriterion):
+            return Criterion(
+                "bath_value",
+                tolerance=request.tolerance,
+                absolute_tolerance=request.absolute_tolerance,
+            )
         return Criterion(request.measure, tolerance=request.tolerance)  # type: ignore[attr-defined]
 
 
@@ -464,6 +559,9 @@ def to_case(request: rq.CaseRequest, units: Units) -> Translation:
         accuracy=request.accuracy,
         engine=request.engine,
     )
+    bath = translator.bath(request, case)
+    if bath is not None:
+        case = replace(case, bath=bath)
     return Translation(
         case=case, positions_m=translator.positions, faces_given=request.faces is not None
     )
@@ -500,3 +598,7 @@ def in_potential(start: Start, body: Body) -> Start:
             pieces.append((low, high, values[0] / layer.partition, values[1] / layer.partition))
             capacity.append(layer.capacity)
     return Start.from_pieces(pieces, capacity)
+
+
+def _boundary_pointer(request: rq.CaseRequest) -> str:
+    return "/surface" if request.surface is not None else "/faces"

@@ -39,6 +39,7 @@ def history(request: HistoryRequest, solver: SolverDep, units: UnitsDep) -> Resp
                 SnapshotOut(time_s=s.time_s, positions_m=s.positions_m, values=s.values)
                 for s in answer.snapshots
             ],
+            bath_values=answer.bath_values,
             final_value=answer.final_value,
             final_state=final_state_out(translation.case),
             characteristic_length_m=translation.case.characteristic_length_m,

@@ -65,6 +65,10 @@ class ModalSolution:
     slowest_rate_per_s : the body's slowest non-constant mode in this solution (1/s).
     valid_from_s : earliest time at which truncation stays below the accuracy asked.
     tail : bounds on what truncation leaves out at a time (None when nothing is left out).
+    bath_basis : ψ_k at a finite bath coupled to the body (None without one). The modes are
+        then orthonormal over body and bath together (the bath weighted by its capacity
+        ratio α), so the body's own mean square is Σ b_k b_l (δ_kl − α ψ_bk ψ_bl) e^{−(λk+λl)t}.
+    bath_ratio : that capacity ratio α.
     """
 
     engine: str
@@ -80,6 +84,8 @@ class ModalSolution:
     slowest_rate_per_s: float
     tail: Callable[[float], TailBound] | None = None
     sample_basis_of: Callable[[], FloatArray] | None = None
+    bath_basis: FloatArray | None = None
+    bath_ratio: float = 0.0
 
     @cached_property
     def sample_basis(self) -> FloatArray:

@@ -268,6 +268,50 @@ class FiniteVolumeEngine:
         diagonal[1:] += conductance
         diagonal[-1] += outer
         diagonal[0] += inner
+        if amounts is None:
+            amounts = case.start.moments(m, faces[:-1], faces[1:])
+        final_amounts = capacity * case.final_state.amounts(faces[:-1], faces[1:])
+        averages = (amounts - final_amounts) / volumes
+        body_capacity = float(np.sum(volumes))
+
+        # a finite bath is one more node, beside the end that touches it (the one end that
+        # does: a slab in a bath on both faces is meshed as its mirror-symmetric half), with
+        # capacity α times the meshed body's and the end's conductance to it
+        bath = case.bath
+        bath_end = _bath_end(inner_surface, outer_surface)
+        if (
+            inner_surface is not None
+            and inner_surface.kind is outer_surface.kind is SurfaceKind.BATH
+        ):
+            raise NotApplicable(
+                "a slab in one bath on both faces is solved for a start symmetric about its "
+                "mid-plane; split the start into symmetric and antisymmetric parts",
+                "/initial",
+            )
+        if bath is not None and bath_end is not None:
+            link = inner if bath_end == 0 else outer
+            node = (
+                np.array([bath.capacity_ratio * body_capacity]),
+                np.array([link]),
+                np.array([bath.start_value - case.final_state.value]),
+            )
+            if bath_end == 0:
+                volumes = np.r_[node[0], volumes]
+                diagonal = np.r_[node[1], diagonal]
+                conductance = np.r_[link, conductance]
+                averages = np.r_[node[2], averages]
+            else:
+                volumes = np.r_[volumes, node[0]]
+                diagonal = np.r_[diagonal, node[1]]
+                conductance = np.r_[conductance, link]
+                averages = np.r_[averages, node[2]]
+        body_rows = (
+            slice(1, None)
+            if bath_end == 0
+            else slice(None, -1)
+            if bath_end is not None
+            else slice(None)
+        )
         root_volume = np.sqrt(volumes)
         scaled_diagonal = diagonal / volumes
         scaled_off = -conductance / (root_volume[1:] * root_volume[:-1])
@@ -278,15 +322,12 @@ class FiniteVolumeEngine:
         if info != 0 or not np.all(np.isfinite(rates)):
             raise NumericalFailure(f"the finite-volume eigensolver failed (LAPACK info {info})")
 
-        root_total = math.sqrt(float(np.sum(volumes)))
-        if amounts is None:
-            amounts = case.start.moments(m, faces[:-1], faces[1:])
-        final_amounts = capacity * case.final_state.amounts(faces[:-1], faces[1:])
-        averages = (amounts - final_amounts) / volumes
+        # modes normalised over the body's capacity (and the bath's, weighted alike)
+        root_total = math.sqrt(body_capacity)
         amplitudes = vectors.T @ (root_volume * averages) / root_total
-        mode_means = vectors.T @ root_volume / root_total
+        mode_means = vectors[body_rows].T @ root_volume[body_rows] / root_total
         keep = slice(None)
-        if not case.faces.exchanging:
+        if case.faces.is_closed:
             keep = np.arange(rates.size) != int(np.argmin(rates))
             rates, amplitudes, mode_means = rates[keep], amplitudes[keep], mode_means[keep]
         rates = np.maximum(rates, 0.0)
@@ -296,37 +337,30 @@ class FiniteVolumeEngine:
                 "case's slowest mode; use the series engine"
             )
 
-        outer_factor = _boundary_factor(outer_surface, outer_material, length, outer_gap)
-        inner_factor = (
-            _boundary_factor(inner_surface, inner_material, length, inner_gap)
+        all_modes = vectors[:, keep] * (root_total / root_volume)[:, None]
+        body_modes = all_modes[body_rows]
+        bath_basis = None
+        if bath_end is not None:
+            bath_basis = all_modes[0 if bath_end == 0 else -1]
+        inner_row = (
+            _end_row(inner_surface, inner_material, length, inner_gap, body_modes[0], bath_basis)
             if inner_surface is not None
             else None
         )
+        outer_row = _end_row(
+            outer_surface, outer_material, length, outer_gap, body_modes[-1], bath_basis
+        )
         extent = body.extent_m
-        cell_modes: list[FloatArray] = []
-
-        def modes_in_cells() -> FloatArray:
-            if not cell_modes:
-                cell_modes.append(vectors[:, keep] * (root_total / root_volume)[:, None])
-            return cell_modes[0]
 
         def basis_at(positions_m: FloatArray) -> FloatArray:
             positions = np.asarray(positions_m, dtype=float)
             if is_mirrored:
                 positions = np.minimum(positions, extent - positions)
-            return _interpolate(
-                positions,
-                faces,
-                centres,
-                modes_in_cells(),
-                inner_factor,
-                outer_factor,
-            )
+            return _interpolate(positions, faces, centres, body_modes, inner_row, outer_row)
 
         def sample_basis() -> FloatArray:
             # the samples are the cell centres (and, past a symmetry face, the last one again)
-            modes = modes_in_cells()
-            return np.vstack([modes, modes[-1:]]) if is_mirrored else modes
+            return np.vstack([body_modes, body_modes[-1:]]) if is_mirrored else body_modes
 
         return ModalSolution(
             engine=self.name,
@@ -343,6 +377,8 @@ class FiniteVolumeEngine:
             slowest_rate_per_s=float(rates[0]),
             tail=None,
             sample_basis_of=sample_basis,
+            bath_basis=bath_basis,
+            bath_ratio=case.bath.capacity_ratio if case.bath is not None else 0.0,
         )
 
     @staticmethod
@@ -352,12 +388,16 @@ class FiniteVolumeEngine:
         """Conductance from the end cell's centre to the surroundings through one end, Λ the
         end layer's conductivity (D when homogeneous) and Bi = k·Lc/Λ."""
         transfer = surface.biot * conductivity / length
+        held = SurfaceKind.FIXED_VALUE
+        if surface.kind is SurfaceKind.BATH:
+            # in contact with the bath: held by it, or through a film when one is given
+            held = SurfaceKind.CONVECTIVE if surface.biot > 0 else SurfaceKind.FIXED_VALUE
         conductances: dict[SurfaceKind, Callable[[], float]] = {
             SurfaceKind.NO_FLUX: lambda: 0.0,
             SurfaceKind.FIXED_VALUE: lambda: conductivity * area / gap,
             SurfaceKind.CONVECTIVE: lambda: area / (gap / conductivity + 1.0 / transfer),
         }
-        return conductances[surface.kind]()
+        return conductances[held if surface.kind is SurfaceKind.BATH else surface.kind]()
 
     @staticmethod
     def _cells(case: Case, constant: float = _CELLS_PER_QUARTER_ROOT_ACCURACY) -> int:
@@ -503,23 +543,48 @@ def _interpolate(
     faces: FloatArray,
     centres: FloatArray,
     cell_modes: FloatArray,
-    inner_factor: float | None,
-    outer_factor: float,
+    inner_row: FloatArray | None,
+    outer_row: FloatArray,
 ) -> FloatArray:
     """Mode values at points: linear between cell centres; toward a surface, linear to the
-    surface value its condition implies; toward a radial centre, even in r."""
+    surface value its condition implies (``inner_row``, ``outer_row``); toward a radial
+    centre (no inner row), even in r."""
     nodes = np.r_[faces[0], centres, faces[-1]]
-    rows = np.vstack(
-        [
-            cell_modes[0] * (inner_factor if inner_factor is not None else 1.0),
-            cell_modes,
-            cell_modes[-1] * outer_factor,
-        ]
-    )
-    if inner_factor is None and centres.size > 1:
+    first = inner_row if inner_row is not None else cell_modes[0]
+    rows = np.vstack([first, cell_modes, outer_row])
+    if inner_row is None and centres.size > 1:
         # u(r) ≈ u0 + (u1 − u0)(r² − c0²)/(c1² − c0²) near a symmetry centre
         c0, c1 = centres[0], centres[1]
         rows[0] = cell_modes[0] - (cell_modes[1] - cell_modes[0]) * c0**2 / (c1**2 - c0**2)
     index = np.clip(np.searchsorted(nodes, points, side="right") - 1, 0, nodes.size - 2)
     weight = (points - nodes[index]) / (nodes[index + 1] - nodes[index])
     return np.asarray(rows[index] * (1 - weight)[:, None] + rows[index + 1] * weight[:, None])
+
+
+def _bath_end(inner: Surface | None, outer: Surface) -> int | None:
+    """0 or −1: which end of the meshed extent touches the bath; None when neither does."""
+    if outer.kind is SurfaceKind.BATH:
+        return -1
+    if inner is not None and inner.kind is SurfaceKind.BATH:
+        return 0
+    return None
+
+
+def _end_row(
+    surface: Surface,
+    conductivity: float,
+    length: float,
+    gap: float,
+    cell_row: FloatArray,
+    bath_row: FloatArray | None,
+) -> FloatArray:
+    """Each mode's value at an end: a multiple of the adjacent cell's, or, at a bath, the
+    weighted mean of the cell's and the bath's through the film between them."""
+    if surface.kind is SurfaceKind.BATH:
+        assert bath_row is not None
+        if surface.biot <= 0.0:
+            return bath_row
+        inward = conductivity / gap
+        film = surface.biot * conductivity / length
+        return np.asarray((inward * cell_row + film * bath_row) / (inward + film))
+    return cell_row * _boundary_factor(surface, conductivity, length, gap)

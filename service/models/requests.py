@@ -139,6 +139,9 @@ class SlabBody(_Strict):
     layers: Layers | None = Field(
         None, description="A laminate, from the first face (x = 0) on, in place of a size."
     )
+    face_area: Quantity | None = Field(
+        None, description="The area of one face (m^2), when a bath is given by its volume."
+    )
 
     @model_validator(mode="after")
     def _one_length(self) -> SlabBody:
@@ -161,6 +164,9 @@ class RadialBody(_Strict):
         None,
         description="Concentric shells from the centre (or the inner radius) outward, in place "
         "of a size: a coated bead, a tablet coating.",
+    )
+    length: Quantity | None = Field(
+        None, description="A cylinder's length (m), when a bath is given by its volume."
     )
 
     @model_validator(mode="after")
@@ -256,7 +262,32 @@ class ConvectiveSurface(_Strict):
         return self
 
 
-SurfaceRequest = NoFluxSurface | FixedValueSurface | ConvectiveSurface
+class BathSurface(_Strict):
+    """In contact with the case's finite, well-stirred 'bath': held at its (body-side) value,
+    or through a film when a coefficient or Biot number is given."""
+
+    kind: Literal["bath"]
+    biot: float | None = Field(
+        None, gt=0, le=1e6, allow_inf_nan=False, description="The film's Biot number on Lc."
+    )
+    transfer_coefficient: Quantity | None = Field(
+        None, description="The film's mass transfer coefficient k_f (m/s, or 'number unit')."
+    )
+    heat_transfer_coefficient: Quantity | None = Field(
+        None, description="The film's heat transfer coefficient h (W/(m^2*K))."
+    )
+
+    @model_validator(mode="after")
+    def _at_most_one_rate(self) -> BathSurface:
+        given = [self.biot, self.transfer_coefficient, self.heat_transfer_coefficient]
+        if sum(v is not None for v in given) > 1:
+            raise ValueError(
+                "give at most one of 'biot', 'transfer_coefficient' or 'heat_transfer_coefficient'"
+            )
+        return self
+
+
+SurfaceRequest = NoFluxSurface | FixedValueSurface | ConvectiveSurface | BathSurface
 Surface = Annotated[SurfaceRequest, Field(discriminator="kind")]
 
 
@@ -310,13 +341,38 @@ class ValueAtCriterion(_Strict):
         return self
 
 
+class BathValueCriterion(_Strict):
+    """|bath − its final value| ≤ tolerance·|its starting deviation|, or ≤ absolute_tolerance
+    in the bath's value units."""
+
+    measure: Literal["bath_value"]
+    tolerance: Tolerance | None = None
+    absolute_tolerance: float | None = Field(None, gt=0, le=1e12, allow_inf_nan=False)
+
+    @model_validator(mode="after")
+    def _one_tolerance(self) -> BathValueCriterion:
+        if (self.tolerance is None) == (self.absolute_tolerance is None):
+            raise ValueError("give exactly one of 'tolerance' or 'absolute_tolerance'")
+        return self
+
+
+class RemainingFractionCriterion(_Strict):
+    """M(t)/M(0) ≤ fraction: the share of its starting amount the body still holds (amounts
+    counted from zero of the value units)."""
+
+    measure: Literal["remaining_fraction"]
+    fraction: Annotated[float, Field(gt=0, lt=1, allow_inf_nan=False)]
+
+
 Criterion = Annotated[
     MeanSquareCriterion
     | MaxDeviationCriterion
     | RsdCriterion
     | EnergyCriterion
     | FractionCriterion
-    | ValueAtCriterion,
+    | ValueAtCriterion
+    | BathValueCriterion
+    | RemainingFractionCriterion,
     Field(discriminator="measure"),
 ]
 
@@ -332,6 +388,33 @@ class Faces(_Strict):
     outer: Surface | None = None
 
 
+class BathRequest(_Strict):
+    """A finite, well-stirred bath the body exchanges with (through the surfaces of kind
+    'bath')."""
+
+    volume: Quantity | None = Field(
+        None,
+        description="The bath's volume (m^3, or 'number unit'); a slab then needs "
+        "'body.face_area', a cylinder 'body.length'.",
+    )
+    capacity_ratio: float | None = Field(
+        None,
+        gt=0,
+        le=1e9,
+        allow_inf_nan=False,
+        strict=True,
+        description="Crank's α = V_bath/(K·V_body), or (ρc)_bath·V_bath/((ρc)_body·V_body) for "
+        "heat, in place of 'volume' (K is then not applied again).",
+    )
+    value: Value = Field(description="The bath's starting value (concentration or temperature).")
+
+    @model_validator(mode="after")
+    def _one_size(self) -> BathRequest:
+        if (self.volume is None) == (self.capacity_ratio is None):
+            raise ValueError("give exactly one of 'volume' or 'capacity_ratio'")
+        return self
+
+
 class CaseRequest(_Strict):
     body: Body
     medium: Medium | None = Field(
@@ -343,6 +426,9 @@ class CaseRequest(_Strict):
     )
     faces: Faces | None = Field(
         None, description="A condition for each face or surface (give this or 'surface')."
+    )
+    bath: BathRequest | None = Field(
+        None, description="A finite, well-stirred bath touching the surfaces of kind 'bath'."
     )
     engine: Literal["auto", "series", "finite_volume"] = Field(
         "auto", description="'auto' runs the exact series where it applies."

@@ -136,6 +136,9 @@ class HistoryResponse(BaseModel):
     times_s: list[float]
     measures: dict[str, list[float | None]]
     snapshots: list[SnapshotOut]
+    bath_values: list[float] | None = Field(
+        None, description="The bath's value at each time, when there is a bath."
+    )
     final_value: float | None
     final_state: FinalStateOut
     characteristic_length_m: float

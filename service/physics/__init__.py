@@ -9,6 +9,7 @@ the numerics only as the metric exponent ``m`` (0 slab, 1 cylinder, 2 sphere).
 from __future__ import annotations
 
 from service.physics.case import (
+    Bath,
     Body,
     Case,
     Criterion,
@@ -25,6 +26,7 @@ from service.physics.case import (
 )
 
 __all__ = [
+    "Bath",
     "Body",
     "Case",
     "Criterion",

@@ -12,6 +12,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 __all__ = [
+    "Bath",
     "Body",
     "Case",
     "Criterion",
@@ -47,6 +48,8 @@ class SurfaceKind(StrEnum):
     NO_FLUX = "no_flux"
     FIXED_VALUE = "fixed_value"
     CONVECTIVE = "convective"
+    # in contact with the case's finite, well-stirred bath (through a film when biot > 0)
+    BATH = "bath"
 
 
 @dataclass(frozen=True)
@@ -276,6 +279,12 @@ class Faces:
         return tuple(end for end in self.ends if end.kind is not SurfaceKind.NO_FLUX)
 
     @property
+    def is_closed(self) -> bool:
+        """Whether nothing leaves the body and its bath together (every end sealed or in the
+        bath): then what they hold is conserved and one mode is the constant."""
+        return all(end.kind in (SurfaceKind.NO_FLUX, SurfaceKind.BATH) for end in self.ends)
+
+    @property
     def is_alike(self) -> bool:
         """Whether every end has the same condition."""
         return self.inner is None or self.inner == self.outer
@@ -292,6 +301,18 @@ def characteristic_length(body: Body, faces: Faces) -> tuple[float, str]:
     if len(faces.exchanging) == 1:
         return body.wall_m, whole
     return body.wall_m / 2, "half_" + whole
+
+
+@dataclass(frozen=True)
+class Bath:
+    """A finite, well-stirred bath: its capacity over the body's (Crank's α = V_bath/(K·V_body),
+    or (ρc)_bath·V_bath/((ρc)_body·V_body) for heat) and its starting value in the body's
+    potential (K times the bath's concentration for a homogeneous body)."""
+
+    capacity_ratio: float
+    start_value: float
+    # the bath's concentration times this is its value in the body's potential
+    to_potential: float = 1.0
 
 
 @dataclass(frozen=True)
@@ -314,6 +335,7 @@ class Case:
     criterion: Criterion | None = None
     accuracy: float = 1e-4
     engine: str = "auto"
+    bath: Bath | None = None
 
     @property
     def layers(self) -> tuple[Layer, ...]:
@@ -370,7 +392,7 @@ class Case:
     def final_state(self) -> FinalState:
         """The state the body settles to: uniform, or a steady profile between two ends."""
         return final_state(
-            self.body, self.faces, self.layers, self.start, self.characteristic_length_m
+            self.body, self.faces, self.layers, self.start, self.characteristic_length_m, self.bath
         )
 
     @property
@@ -545,7 +567,12 @@ class FinalState:
 
 
 def final_state(
-    body: Body, faces: Faces, layers: tuple[Layer, ...], start: Start, length_m: float
+    body: Body,
+    faces: Faces,
+    layers: tuple[Layer, ...],
+    start: Start,
+    length_m: float,
+    bath: Bath | None = None,
 ) -> FinalState:
     """The state the body settles to (see the notes above); ``length_m`` is the case's Lc, on
     which the Biot numbers are given.
@@ -558,12 +585,17 @@ def final_state(
     m = body.metric
     exchanging = faces.exchanging
     inner, outer = body.inner_m, body.extent_m
-    if not exchanging:
+    if bath is not None or not exchanging:
+        # the body (and its bath) share what they hold
         capacity = sum(
             layer.capacity * body.weight_integral(low, layer.outer_m)
             for low, layer in zip(_lowers(body, layers), layers, strict=True)
         )
-        return FinalState.uniform(m, start.body_moment(m) / capacity, inner, outer)
+        held = start.body_moment(m)
+        if bath is not None:
+            held += bath.capacity_ratio * capacity * bath.start_value
+            capacity *= 1.0 + bath.capacity_ratio
+        return FinalState.uniform(m, held / capacity, inner, outer)
     if len({end.value for end in exchanging}) == 1:
         return FinalState.uniform(m, exchanging[0].value, inner, outer)
     assert faces.inner is not None
