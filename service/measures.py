@@ -33,7 +33,7 @@ from __future__ import annotations
 
 import math
 from abc import ABC, abstractmethod
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import cached_property
 from typing import ClassVar
 
@@ -41,7 +41,14 @@ import numpy as np
 from numpy.typing import NDArray
 from scipy import optimize
 
-from service.engines.common import EXCITED_FRACTION, ModalSolution, TailBound
+from service.engines.common import (
+    EXCITED_FRACTION,
+    Interval,
+    ModalSolution,
+    TailBound,
+    exchange_intervals,
+    interval_index,
+)
 from service.errors import InvalidInput, NumericalFailure
 from service.physics import Case, Criterion
 
@@ -611,6 +618,90 @@ class RemainingFraction(_SignedSum):
         return np.asarray(held / facts.amount_start)
 
 
+class _Exchanged(Measure):
+    """A measure across bath exchanges: piecewise in time, each interval following its own
+    restarted solution, searched for its last crossing over all of them. After the last
+    exchange it is the single-interval measure ``last``, whose bound on monotonicity holds."""
+
+    is_monotone = False
+
+    def __init__(
+        self, facts: Facts, intervals: list[Interval], level: float, last: _SignedSum
+    ) -> None:
+        super().__init__(facts, intervals[0].solution, level)
+        self.intervals = intervals
+        self.last = last
+
+    @abstractmethod
+    def _on(self, interval: Interval, elapsed_s: FloatArray) -> FloatArray:
+        """The compared quantity within one interval, at times since it began."""
+
+    def values(self, times_s: FloatArray) -> FloatArray:
+        times = np.asarray(times_s, dtype=float)
+        index = interval_index(self.intervals, times)
+        out = np.empty(times.shape)
+        for i in np.unique(index).tolist():
+            chosen = index == i
+            interval = self.intervals[i]
+            out[chosen] = self._on(interval, times[chosen] - interval.start_s)
+        return out
+
+    def truncation(self, tail: TailBound) -> float:
+        return 0.0
+
+    def settled_after_s(self, floor_s: float) -> float:
+        start = self.intervals[-1].start_s
+        return start + self.last.settled_after_s(floor_s)
+
+    def guess_s(self) -> float:
+        return self.intervals[-1].start_s + self.last.guess_s()
+
+
+class ExchangedRemainingFraction(_Exchanged):
+    """M(t)/M(0) across exchanges (compared with the fraction itself)."""
+
+    name = "remaining_fraction"
+
+    def _on(self, interval: Interval, elapsed_s: FloatArray) -> FloatArray:
+        facts, solution = self.facts, interval.solution
+        decay = solution.decay(elapsed_s)
+        held = facts.capacity * (
+            interval.final_value + decay @ (solution.amplitudes * solution.mode_means)
+        )
+        return np.asarray(held / facts.amount_start)
+
+    def initial_value(self) -> float:
+        return 1.0
+
+
+class ExchangedBathValue(_Exchanged):
+    """|bath − its value at the end of the last interval| across exchanges."""
+
+    name = "bath_value"
+
+    def __init__(
+        self,
+        facts: Facts,
+        intervals: list[Interval],
+        level: float,
+        last: _SignedSum,
+        scale: float,
+    ) -> None:
+        super().__init__(facts, intervals, level, last)
+        self.scale = scale
+
+    def _on(self, interval: Interval, elapsed_s: FloatArray) -> FloatArray:
+        solution = interval.solution
+        assert solution.bath_basis is not None
+        offset = interval.final_value - self.intervals[-1].final_value
+        signed = offset + solution.decay(elapsed_s) @ (solution.amplitudes * solution.bath_basis)
+        return np.asarray(np.abs(signed) / self.scale)
+
+    def initial_value(self) -> float:
+        first = self.intervals[0]
+        return float(self._on(first, np.zeros(1))[0])
+
+
 class RelativeStandardDeviation(Measure):
     """√(⟨u²⟩ − ⟨u⟩²)/|c_final + ⟨u⟩|, an absolute level as blend-uniformity limits are written."""
 
@@ -683,6 +774,8 @@ def build_measure(
     with_bath = solution.bath_basis is not None
     if with_bath and name in _NOT_WITH_BATH:
         raise InvalidInput(_NOT_WITH_BATH[name], "/criterion/measure")
+    if case.bath is not None and case.bath.exchanges_s:
+        return _exchanged(case, facts, solution, criterion)
     if name == "mean_square_deviation" and with_bath:
         assert criterion.tolerance is not None
         return BathMeanSquare(facts, solution, criterion.tolerance)
@@ -723,6 +816,47 @@ _NOT_WITH_BATH = {
     "finite bath; use mean_square_deviation",
     "rsd": "rsd is not offered for a body coupled to a finite bath; use mean_square_deviation",
 }
+
+
+def _exchanged(
+    case: Case, facts: Facts, solution: ModalSolution, criterion: Criterion
+) -> _Exchanged:
+    """remaining_fraction or bath_value across the bath's exchanges."""
+    bath = case.bath
+    assert bath is not None
+    if criterion.measure not in ("remaining_fraction", "bath_value"):
+        raise InvalidInput(
+            "with bath exchanges, the body is judged by 'remaining_fraction' (the share of its "
+            "starting amount it still holds) or 'bath_value'",
+            "/criterion/measure",
+        )
+    intervals = exchange_intervals(
+        solution, case.final_state.value, bath.exchanges_s, bath.start_value
+    )
+    last = intervals[-1]
+    last_facts = replace(
+        facts,
+        final_value=last.final_value,
+        bath_start_deviation=bath.start_value - last.final_value,
+    )
+    if criterion.measure == "remaining_fraction":
+        assert criterion.fraction is not None
+        single = _remaining_fraction(last_facts, last.solution, criterion.fraction)
+        return ExchangedRemainingFraction(facts, intervals, criterion.fraction, single)
+    start_deviation = bath.start_value - last.final_value
+    if criterion.absolute_tolerance is not None:
+        level, scale = criterion.absolute_tolerance * bath.to_potential, 1.0
+    else:
+        if start_deviation == 0.0:
+            raise InvalidInput(
+                "the bath starts at the value it ends at, so a tolerance relative to its "
+                "starting deviation means nothing; give 'absolute_tolerance'",
+                "/criterion/tolerance",
+            )
+        assert criterion.tolerance is not None
+        level, scale = criterion.tolerance, abs(start_deviation)
+    single_bath = BathValue(last_facts, last.solution, level * scale, True)
+    return ExchangedBathValue(facts, intervals, level, single_bath, scale)
 
 
 def _bath_value(
@@ -772,6 +906,13 @@ def defined_measures(
     """Every measure defined for the case (value_at only when the criterion names a point),
     the criterion's own measure reused when given, the others at level 1."""
     out: dict[str, Measure] = {}
+    if case.bath is not None and case.bath.exchanges_s:
+        # across exchanges only the criterion's own measure is followed
+        if criterion_measure is not None:
+            out[criterion_measure.name] = criterion_measure
+        elif criterion is not None:
+            out[criterion.measure] = build_measure(case, facts, solution, criterion)
+        return out
     with_bath = solution.bath_basis is not None
     for name, cls in MEASURES.items():
         if criterion_measure is not None and name == criterion_measure.name:

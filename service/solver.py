@@ -13,7 +13,12 @@ import numpy as np
 from numpy.typing import NDArray
 
 from service.engines import Crossing, Engine, ModalSolution, SeriesEngine, make_engines
-from service.engines.common import FOURIER_FLOOR
+from service.engines.common import (
+    FOURIER_FLOOR,
+    Interval,
+    exchange_intervals,
+    interval_index,
+)
 from service.errors import InvalidInput, NotApplicable, NumericalFailure
 from service.lumped import LUMPED_BIOT, LumpedAnswer, classical_biot, lumped_answer
 from service.measures import (
@@ -93,6 +98,7 @@ class SettlingAnswer:
     estimated_relative_error: float
     biot: float | None
     lumped: LumpedAnswer | None = None
+    met_after_exchange: int | None = None
     warnings: list[tuple[str, str]] = field(default_factory=list)
     assumptions: list[str] = field(default_factory=list)
     cautions: list[str] = field(default_factory=list)
@@ -330,6 +336,11 @@ class Solver:
             estimated_relative_error=run.estimated_relative_error,
             biot=biot,
             lumped=lumped_answer(case, facts),
+            met_after_exchange=(
+                sum(1 for t in case.bath.exchanges_s if t <= time_s)
+                if case.bath is not None and case.bath.exchanges_s
+                else None
+            ),
             warnings=warnings,
             assumptions=_assumptions(case, facts),
             cautions=list(CAUTIONS),
@@ -374,19 +385,35 @@ class Solver:
             if snapshot_count > 0
             else np.array([], dtype=int)
         )
-        potential = solution.values_at(positions, times[chosen]) + case.final_state.values(
-            positions
-        )
-        profiles = potential * case.partition_at(positions)
-        snapshots = [
-            Snapshot(float(times[i]), positions.tolist(), profile.tolist())
-            for i, profile in zip(chosen, profiles, strict=True)
-        ]
+        # between bath exchanges each stretch of time follows its own restarted solution
+        intervals = [Interval(0.0, solution, case.final_state.value)]
+        if case.bath is not None and case.bath.exchanges_s:
+            intervals = exchange_intervals(
+                solution, case.final_state.value, case.bath.exchanges_s, case.bath.start_value
+            )
+        stretch = interval_index(intervals, times)
+        snapshots = []
+        for i in chosen.tolist():
+            interval = intervals[int(stretch[i])]
+            elapsed = np.array([times[i] - interval.start_s])
+            potential = interval.solution.values_at(positions, elapsed)[0]
+            if interval.start_s == 0.0:
+                potential = potential + case.final_state.values(positions)
+            else:
+                potential = potential + interval.final_value
+            profile = potential * case.partition_at(positions)
+            snapshots.append(Snapshot(float(times[i]), positions.tolist(), profile.tolist()))
         bath_values = None
         if case.bath is not None and solution.bath_basis is not None:
-            deviation = solution.weighted(times) @ solution.bath_basis
-            potential = case.final_state.value + deviation
-            bath_values = [float(v) for v in potential / case.bath.to_potential]
+            values = np.empty(times.size)
+            for i, interval in enumerate(intervals):
+                chosen_times = stretch == i
+                bath = interval.solution.bath_basis
+                assert bath is not None
+                elapsed = times[chosen_times] - interval.start_s
+                deviation = interval.solution.weighted(elapsed) @ bath
+                values[chosen_times] = interval.final_value + deviation
+            bath_values = [float(v) for v in values / case.bath.to_potential]
         return HistoryAnswer(
             times_s=times.tolist(),
             measures=series,

@@ -41,6 +41,8 @@ HOLLOW_WALL_MIN = 1e-6
 VALUE_LIMIT = 1e12
 # Interface resistances (s/m for mass, m^2·K/W for heat); zero is no resistance.
 RESISTANCE_RANGE = (0.0, 1e12)
+# The latest bath exchange accepted (about 3 000 years).
+EXCHANGE_LIMIT_S = 1e11
 # A bath's volume (m³) and a slab's face area (m²).
 VOLUME_RANGE = (1e-24, 1e9)
 AREA_RANGE = (1e-18, 1e8)
@@ -474,7 +476,18 @@ class _Translator:
                     "/bath/volume",
                 )
             ratio = bath_volume / (case.medium.partition * self._body_volume(request, case))
-        return Bath(ratio, request.bath.value * to_potential, to_potential)
+        exchanges: list[float] = []
+        for i, raw in enumerate(request.bath.exchanges or []):
+            at = f"/bath/exchanges/{i}"
+            time_s = self.units.to_si(raw, "time", at)
+            if not 0.0 < time_s <= EXCHANGE_LIMIT_S or (exchanges and time_s <= exchanges[-1]):
+                raise InvalidInput(
+                    "exchange times must be positive, at most "
+                    f"{EXCHANGE_LIMIT_S:g} s, and increase strictly",
+                    at,
+                )
+            exchanges.append(time_s)
+        return Bath(ratio, request.bath.value * to_potential, to_potential, tuple(exchanges))
 
     def _body_volume(self, request: rq.CaseRequest, case: Case) -> float:
         """The body's K-weighted volume ∫K dV (its plain volume when homogeneous, whose K

@@ -71,6 +71,7 @@ def _respond(translation: Translation, solver: Solver) -> Response:
             diffusivity_m2_per_s=case.medium.diffusivity_m2_per_s,
             biot=answer.biot,
             biot_by_face=biot_by_face(case, translation.faces_given),
+            met_after_exchange=answer.met_after_exchange,
             lumped=(
                 LumpedOut(
                     time_s=answer.lumped.time_s,

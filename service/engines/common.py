@@ -26,8 +26,11 @@ __all__ = [
     "Crossing",
     "Engine",
     "EngineRun",
+    "Interval",
     "ModalSolution",
     "TailBound",
+    "exchange_intervals",
+    "interval_index",
 ]
 
 # A mode counts as excited when its amplitude exceeds this fraction of the largest.
@@ -86,6 +89,10 @@ class ModalSolution:
     sample_basis_of: Callable[[], FloatArray] | None = None
     bath_basis: FloatArray | None = None
     bath_ratio: float = 0.0
+    # (elapsed time, fresh bath value) → the solution after the bath is replaced then, and the
+    # final value it tends to: the same modes, amplitudes projected from the state at that
+    # time with the bath reset (None without a bath)
+    restart: Callable[[float, float], tuple[ModalSolution, float]] | None = None
 
     @cached_property
     def sample_basis(self) -> FloatArray:
@@ -113,6 +120,36 @@ class ModalSolution:
     def values_at(self, positions_m: FloatArray, times_s: FloatArray) -> FloatArray:
         """u at positions (columns) and times (rows)."""
         return self.weighted(times_s) @ self.basis_at(np.asarray(positions_m, dtype=float)).T
+
+
+@dataclass(frozen=True)
+class Interval:
+    """One stretch of time between bath exchanges: from ``start_s`` on, u = φ − final_value
+    follows ``solution`` in the time since ``start_s``."""
+
+    start_s: float
+    solution: ModalSolution
+    final_value: float
+
+
+def exchange_intervals(
+    solution: ModalSolution, final_value: float, exchanges_s: tuple[float, ...], fresh: float
+) -> list[Interval]:
+    """The intervals a bath's exchanges cut time into, each restarted from the state the one
+    before left, with the bath replaced by fresh fluid."""
+    intervals = [Interval(0.0, solution, final_value)]
+    for time_s in exchanges_s:
+        last = intervals[-1]
+        assert last.solution.restart is not None
+        following, final = last.solution.restart(time_s - last.start_s, fresh)
+        intervals.append(Interval(time_s, following, final))
+    return intervals
+
+
+def interval_index(intervals: list[Interval], times_s: FloatArray) -> NDArray[np.intp]:
+    """Which interval each time falls in (an exchange time belongs to the interval it opens)."""
+    starts = np.array([interval.start_s for interval in intervals])
+    return np.asarray(np.searchsorted(starts, times_s, side="right") - 1, dtype=np.intp)
 
 
 @dataclass(frozen=True)

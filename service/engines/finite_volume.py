@@ -351,6 +351,33 @@ class FiniteVolumeEngine:
             outer_surface, outer_material, length, outer_gap, body_modes[-1], bath_basis
         )
         extent = body.extent_m
+        restart = None
+        if bath_end is not None:
+            bath_row = 0 if bath_end == 0 else -1
+            capacities = volumes
+
+            def restart_from(
+                start_amplitudes: FloatArray, final: float
+            ) -> Callable[[float, float], tuple[ModalSolution, float]]:
+                def restart(elapsed_s: float, fresh: float) -> tuple[ModalSolution, float]:
+                    """The state at ``elapsed_s`` with the bath replaced by fresh fluid: its
+                    new shared final value, and the amplitudes of its deviation from that."""
+                    decayed = start_amplitudes * np.exp(-rates * elapsed_s)
+                    state = final + all_modes @ decayed
+                    state[bath_row] = fresh
+                    new_final = float(np.dot(capacities, state) / np.sum(capacities))
+                    deviation = capacities * (state - new_final)
+                    new_amplitudes = all_modes.T @ deviation / body_capacity
+                    following = replace(
+                        solution,
+                        amplitudes=new_amplitudes,
+                        restart=restart_from(new_amplitudes, new_final),
+                    )
+                    return following, new_final
+
+                return restart
+
+            restart = restart_from(amplitudes, case.final_state.value)
 
         def basis_at(positions_m: FloatArray) -> FloatArray:
             positions = np.asarray(positions_m, dtype=float)
@@ -362,7 +389,7 @@ class FiniteVolumeEngine:
             # the samples are the cell centres (and, past a symmetry face, the last one again)
             return np.vstack([body_modes, body_modes[-1:]]) if is_mirrored else body_modes
 
-        return ModalSolution(
+        solution = ModalSolution(
             engine=self.name,
             resolution=int(centres.size * (2 if is_mirrored else 1)),
             diffusivity_m2_per_s=diffusivity,
@@ -379,7 +406,9 @@ class FiniteVolumeEngine:
             sample_basis_of=sample_basis,
             bath_basis=bath_basis,
             bath_ratio=case.bath.capacity_ratio if case.bath is not None else 0.0,
+            restart=restart,
         )
+        return solution
 
     @staticmethod
     def _end_conductance(

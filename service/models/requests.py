@@ -407,6 +407,12 @@ class BathRequest(_Strict):
         "heat, in place of 'volume' (K is then not applied again).",
     )
     value: Value = Field(description="The bath's starting value (concentration or temperature).")
+    exchanges: list[Quantity] | None = Field(
+        None,
+        max_length=200,
+        description="Times (s, or 'number unit') at which the bath is replaced by fresh fluid at "
+        "its starting value (buffer changes, rinses), in increasing order.",
+    )
 
     @model_validator(mode="after")
     def _one_size(self) -> BathRequest:

@@ -113,6 +113,11 @@ class SettlingResponse(BaseModel):
         description="Each convective face's Biot number on Lc, by face name, when 'faces' was "
         "given.",
     )
+    met_after_exchange: int | None = Field(
+        None,
+        description="With bath exchanges: how many exchanges had happened when the criterion "
+        "came to hold (0: in the first bath).",
+    )
     lumped: LumpedOut | None = Field(
         None,
         description="The lumped model's time beside this one, when the classical Biot number "

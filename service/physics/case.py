@@ -313,6 +313,8 @@ class Bath:
     start_value: float
     # the bath's concentration times this is its value in the body's potential
     to_potential: float = 1.0
+    # times at which the bath is replaced by fresh fluid at its starting value
+    exchanges_s: tuple[float, ...] = ()
 
 
 @dataclass(frozen=True)

@@ -168,3 +168,74 @@ def test_bath_errors_name_the_field(
     response = client.post("/v1/settling-time", json=request)
     assert response.status_code == 422, response.text
     assert pointer in [e["pointer"] for e in response.json()["errors"]]
+
+
+RINSES: dict[str, Any] = {
+    **RELEASE,
+    "surface": {"kind": "bath"},
+    "bath": {"capacity_ratio": 4.0, "value": 0, "exchanges": ["30 min", "60 min", "90 min"]},
+}
+
+
+def test_well_spaced_rinses_dilute_geometrically(client: TestClient) -> None:
+    """With each bath left to equilibrate (30 min is many time constants of a 1 mm bead with
+    D = 1e-9 m²/s, R²/(π²D) ≈ 100 s), every bath of α = 4 leaves 1/(1+α) of what the body
+    held: after n baths (1/5)^n (the dilution of successive rinses; common practice)."""
+    times = [1790.0, 3590.0, 5390.0, 9000.0]
+    history = _post(
+        client,
+        "/v1/history",
+        **RINSES,
+        times=times,
+        criterion={"measure": "remaining_fraction", "fraction": 0.01},
+    )
+    remaining = history["measures"]["remaining_fraction"]
+    assert remaining == pytest.approx([0.2, 0.04, 0.008, 0.0016], rel=1e-6)
+    # the bath is fresh after each exchange and takes up what the body gives: 4·c_b = released
+    bath = history["bath_values"]
+    assert bath[-1] == pytest.approx((0.008 - 0.0016) / 4.0, rel=1e-6)
+
+
+def test_rinse_answer_says_after_which_exchange(client: TestClient) -> None:
+    body = _post(client, **RINSES, criterion={"measure": "remaining_fraction", "fraction": 0.01})
+    # 0.2, 0.04 after the first two baths: the criterion is met in the third bath
+    assert body["met_after_exchange"] == 2
+    assert 3600.0 < body["time_s"] < 5400.0
+    assert body["measures"]["remaining_fraction"] == pytest.approx(0.01, rel=1e-3)
+
+
+def test_history_is_continuous_in_the_body_across_an_exchange(client: TestClient) -> None:
+    history = _post(
+        client,
+        "/v1/history",
+        **{**RINSES, "bath": {**RINSES["bath"], "exchanges": ["60 s"]}},
+        times=[59.999, 60.0, 60.001],
+        criterion={"measure": "remaining_fraction", "fraction": 0.1},
+    )
+    remaining = history["measures"]["remaining_fraction"]
+    # the body holds what it held: continuous into the exchange
+    assert remaining[0] == pytest.approx(remaining[1], rel=1e-5)
+    # then the fresh bath draws it down again, at first as √t: in Δt = 1 ms a sphere loses
+    # at most (3/R)·2·√(DΔt/π) = 3.4e-3 of its mean (surface value at most the mean here)
+    assert 0 < (remaining[1] - remaining[2]) / remaining[1] < 3.4e-3
+    assert history["bath_values"][1] == pytest.approx(0.0, abs=1e-12)  # fresh at the exchange
+    assert history["bath_values"][0] > 0.01
+
+
+def test_exchanges_are_judged_by_rinse_measures(client: TestClient) -> None:
+    response = client.post(
+        "/v1/settling-time",
+        json={**RINSES, "criterion": {"measure": "mean_square_deviation", "tolerance": 0.01}},
+    )
+    assert response.status_code == 422
+    assert response.json()["errors"][0]["pointer"] == "/criterion/measure"
+    response = client.post(
+        "/v1/settling-time",
+        json={
+            **RINSES,
+            "bath": {**RINSES["bath"], "exchanges": ["20 min", "10 min"]},
+            "criterion": {"measure": "remaining_fraction", "fraction": 0.1},
+        },
+    )
+    assert response.status_code == 422
+    assert response.json()["errors"][0]["pointer"] == "/bath/exchanges/1"
