@@ -239,3 +239,22 @@ def test_exchanges_are_judged_by_rinse_measures(client: TestClient) -> None:
     )
     assert response.status_code == 422
     assert response.json()["errors"][0]["pointer"] == "/bath/exchanges/1"
+
+
+@pytest.mark.parametrize("shape", ["slab", "sphere"])
+def test_a_huge_bath_is_a_held_surface(client: TestClient, shape: str) -> None:
+    """With α = 1e6 the bath hardly moves, so the body sees a held surface: the settling time
+    is the fixed_value case's (from the series engine) to about 1/α."""
+    size = {"thickness": "2 mm"} if shape == "slab" else {"radius": "1 mm"}
+    common = {
+        "body": {"shape": shape, **size},
+        "medium": {"diffusivity": "1e-9 m^2/s"},
+        "initial": {"kind": "uniform", "value": 0},
+        "criterion": {"measure": "fraction_equilibrated", "fraction": 0.95},
+    }
+    in_bath = _post(
+        client, **common, surface={"kind": "bath"}, bath={"capacity_ratio": 1e6, "value": 1.0}
+    )
+    held = _post(client, **common, surface={"kind": "fixed_value", "value": 1.0})
+    assert held["method"]["engine"] == "series"
+    assert in_bath["time_s"] == pytest.approx(held["time_s"], rel=1e-4)
