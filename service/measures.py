@@ -890,7 +890,7 @@ def _remaining_fraction(
     if not ends_with < fraction:
         raise InvalidInput(
             f"the body keeps {ends_with:.4g} of its starting amount at equilibrium, so it never "
-            f"gets down to {fraction:g}; a larger bath or bath exchanges would",
+            f"gets down to {fraction:g}; a larger bath or (more) bath exchanges would",
             "/criterion/fraction",
         )
     return RemainingFraction(facts, solution, fraction - ends_with)
