@@ -246,7 +246,7 @@ def test_a_huge_bath_is_a_held_surface(client: TestClient, shape: str) -> None:
     """With α = 1e6 the bath hardly moves, so the body sees a held surface: the settling time
     is the fixed_value case's (from the series engine) to about 1/α."""
     size = {"thickness": "2 mm"} if shape == "slab" else {"radius": "1 mm"}
-    common = {
+    common: dict[str, Any] = {
         "body": {"shape": shape, **size},
         "medium": {"diffusivity": "1e-9 m^2/s"},
         "initial": {"kind": "uniform", "value": 0},
