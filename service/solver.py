@@ -266,11 +266,17 @@ class Solver:
     def is_quick(self, case: Case) -> bool:
         """Whether ``case`` is answered by the series engine from a start of few pieces, which
         takes well under a millisecond (a few milliseconds at most, for very early answers)."""
-        return (
+        if not (
             case.engine in ("auto", "series")
             and case.start.x0.size <= QUICK_START_PIECES
             and case.accuracy >= QUICK_ACCURACY
-        )
+        ):
+            return False
+        try:
+            self.engines["series"].check(case)
+        except NotApplicable:
+            return False  # auto will run the finite-volume engine: keep it off the event loop
+        return True
 
     def settle(self, case: Case) -> SettlingAnswer:
         """The settling time of ``case`` under its criterion, with every measure at that time."""

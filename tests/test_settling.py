@@ -9,7 +9,7 @@ import pytest
 
 from service.engines.series import SeriesEngine
 from service.measures import Facts, build_measure
-from service.physics import Case, Criterion, Geometry, Start, SurfaceKind
+from service.physics import Body, Case, Criterion, Faces, Geometry, Start, SurfaceKind
 from service.solver import Solver, format_time
 from tests.factories import KINDS, SHAPES, make_case, off_centre_band
 
@@ -210,3 +210,18 @@ def test_solver_is_quick_only_for_small_series_cases(solver: Solver) -> None:
     assert not solver.is_quick(make_case(Geometry.SPHERE, engine="finite_volume"))
     pieces = [(0.1 * i, 0.1 * (i + 1), float(i % 2), float(i % 2)) for i in range(20)]
     assert not solver.is_quick(make_case(Geometry.SLAB, start=Start.from_pieces(pieces)))
+
+
+def test_only_series_answers_count_as_quick(solver: Solver) -> None:
+    """Quick answers run on the event loop; a case the series engine declines (here a hollow
+    body, which auto sends to finite volume) must not."""
+    solid = make_case(Geometry.SPHERE, SurfaceKind.FIXED_VALUE)
+    body = Body(Geometry.SPHERE, 1.0, 0.5)
+    hollow = replace(
+        solid,
+        body=body,
+        start=Start.uniform(1.0, 0.0, 0.5),
+        faces=Faces.alike(body, solid.faces.outer),
+    )
+    assert solver.is_quick(solid)
+    assert not solver.is_quick(hollow)
