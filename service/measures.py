@@ -31,6 +31,7 @@ settled for good, computed from a bound (see ``settled_after_s``).
 
 from __future__ import annotations
 
+import bisect
 import math
 from abc import ABC, abstractmethod
 from dataclasses import dataclass, replace
@@ -645,6 +646,16 @@ class _Exchanged(Measure):
             interval = self.intervals[i]
             out[chosen] = self._on(interval, times[chosen] - interval.start_s)
         return out
+
+    def value(self, time_s: float) -> float:
+        """One time: its interval found by bisection (the search asks this one at a time)."""
+        index = bisect.bisect_right(self._starts, time_s) - 1
+        interval = self.intervals[max(index, 0)]
+        return float(self._on(interval, np.array([time_s - interval.start_s]))[0])
+
+    @cached_property
+    def _starts(self) -> list[float]:
+        return [interval.start_s for interval in self.intervals]
 
     def truncation(self, tail: TailBound) -> float:
         return 0.0
