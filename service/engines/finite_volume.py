@@ -36,7 +36,7 @@ from scipy.linalg import lapack
 
 from service.engines.common import FOURIER_FLOOR, Crossing, EngineRun, ModalSolution
 from service.errors import NotApplicable, NumericalFailure
-from service.physics import Case, Geometry, Surface, SurfaceKind
+from service.physics import Case, Faces, Geometry, Surface, SurfaceKind
 
 __all__ = ["FiniteVolumeEngine", "build_mesh"]
 
@@ -99,6 +99,22 @@ def mirrored_extent(case: Case) -> float | None:
     return None
 
 
+def needs_split(case: Case) -> bool:
+    """A homogeneous slab in one bath on both faces with a start that is not mirror-symmetric:
+    its symmetric part exchanges with the bath (meshed as a half with a symmetry face), its
+    antisymmetric part does not (the bath gains from one face what it gives to the other, so
+    that part sees a bath deviation of zero), which keeps each system tridiagonal."""
+    body, faces = case.body, case.faces
+    return (
+        body.geometry is Geometry.SLAB
+        and not body.layers
+        and faces.inner is not None
+        and faces.inner.kind is faces.outer.kind is SurfaceKind.BATH
+        and faces.is_alike
+        and mirrored_extent(case) is None
+    )
+
+
 def _separated(breaks: FloatArray, lower_end: float, upper_end: float, gap: float) -> FloatArray:
     """Breaks strictly inside (lower_end, upper_end), dropping any closer than ``gap`` to the
     one kept before it or to either end: a sliver of the start that thin then shares a cell
@@ -139,14 +155,19 @@ def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> Floa
     spacing is uniform (h_max)."""
     body = case.body
     extent, inner = body.extent_m, body.inner_m
-    half = mirrored_extent(case)
+    split = needs_split(case)
+    half = extent / 2 if split else mirrored_extent(case)
     upper_end = half if half is not None else extent
     h_max = body.wall_m / cells
     # layer interfaces are always faces; a break of the start closer to one than the gap
     # shares its cell instead
     gap = _MIN_GAP * h_max
     interfaces = np.array([layer.outer_m for layer in body.layers[:-1]])
-    breaks = _separated(case.start.breakpoints_m, inner, upper_end, gap)
+    points = case.start.breakpoints_m
+    if split:
+        # the half carries the breaks of both halves, so that the mirrored mesh has them all
+        points = np.where(points > extent / 2, extent - points, points)
+    breaks = _separated(points, inner, upper_end, gap)
     if interfaces.size:
         near = np.min(np.abs(breaks[:, None] - interfaces[None, :]), axis=1) < gap
         breaks = np.union1d(breaks[~near], interfaces)
@@ -191,7 +212,11 @@ def build_mesh(case: Case, cells: int, diffusion_length_m: float | None) -> Floa
                 "points or later times",
                 "/engine",
             )
-    return np.concatenate(faces)
+    mesh = np.concatenate(faces)
+    if split:
+        # the whole slab, symmetric about its mid-plane
+        return np.concatenate([mesh, extent - mesh[-2::-1]])
+    return mesh
 
 
 def _boundary_factor(surface: Surface, conductivity: float, length: float, gap: float) -> float:
@@ -222,6 +247,8 @@ class FiniteVolumeEngine:
 
         Faces that end at half a mirror-symmetric slab get a symmetry (no-flux) face there;
         positions beyond it are read from their mirror images."""
+        if needs_split(case) and faces[-1] >= case.body.extent_m * (1 - 1e-12):
+            return self._split_solution(case, faces, amounts)
         body = case.body
         m = body.metric
         diffusivity = case.medium.diffusivity_m2_per_s
@@ -284,9 +311,10 @@ class FiniteVolumeEngine:
             and inner_surface.kind is outer_surface.kind is SurfaceKind.BATH
         ):
             raise NotApplicable(
-                "a slab in one bath on both faces is solved for a start symmetric about its "
-                "mid-plane; split the start into symmetric and antisymmetric parts",
-                "/initial",
+                "a slab in one bath on both faces is solved here when it is homogeneous and "
+                "both faces meet the bath alike (then its symmetric and antisymmetric parts "
+                "are solved apart)",
+                "/faces" if not case.faces.is_alike else "/body",
             )
         if bath is not None and bath_end is not None:
             link = inner if bath_end == 0 else outer
@@ -409,6 +437,29 @@ class FiniteVolumeEngine:
             restart=restart,
         )
         return solution
+
+    def _split_solution(
+        self, case: Case, faces: FloatArray, amounts: FloatArray | None
+    ) -> ModalSolution:
+        """A slab in one bath on both faces (see ``needs_split``), on a mesh symmetric about
+        its mid-plane: the symmetric part's modes (its half, with the bath) and the
+        antisymmetric part's (the whole slab held at zero deviation through the same film),
+        side by side; the two families are orthogonal over the slab."""
+        m = case.body.metric
+        if amounts is None:
+            amounts = case.start.moments(m, faces[:-1], faces[1:])
+        mirrored = amounts[::-1]
+        half = amounts.size // 2
+        symmetric = self.solution_on(case, faces[: half + 1], 0.5 * (amounts + mirrored)[:half])
+        film = case.faces.outer
+        held = (
+            Surface(SurfaceKind.CONVECTIVE, 0.0, film.biot)
+            if film.biot > 0
+            else Surface(SurfaceKind.FIXED_VALUE, 0.0)
+        )
+        antisymmetric_case = replace(case, faces=Faces(held, held), bath=None)
+        antisymmetric = self.solution_on(antisymmetric_case, faces, 0.5 * (amounts - mirrored))
+        return _side_by_side(symmetric, antisymmetric)
 
     @staticmethod
     def _end_conductance(
@@ -617,3 +668,47 @@ def _end_row(
         film = surface.biot * conductivity / length
         return np.asarray((inward * cell_row + film * bath_row) / (inward + film))
     return cell_row * _boundary_factor(surface, conductivity, length, gap)
+
+
+def _side_by_side(symmetric: ModalSolution, antisymmetric: ModalSolution) -> ModalSolution:
+    """One solution from the symmetric part's modes (half-meshed, with the bath) and the
+    antisymmetric part's (whole slab, no bath); a bath exchange restarts the first and lets
+    the second decay on."""
+    assert symmetric.bath_basis is not None and symmetric.restart is not None
+    order = np.argsort(np.r_[symmetric.rates_per_s, antisymmetric.rates_per_s], kind="stable")
+    positions = antisymmetric.sample_positions_m
+
+    def basis_at(points_m: FloatArray) -> FloatArray:
+        both = np.hstack([symmetric.basis_at(points_m), antisymmetric.basis_at(points_m)])
+        return np.asarray(both[:, order])
+
+    def sample_basis() -> FloatArray:
+        both = np.hstack([symmetric.basis_at(positions), antisymmetric.sample_basis])
+        return np.asarray(both[:, order])
+
+    def restart(elapsed_s: float, fresh: float) -> tuple[ModalSolution, float]:
+        assert symmetric.restart is not None
+        following, final = symmetric.restart(elapsed_s, fresh)
+        decayed = antisymmetric.amplitudes * np.exp(-antisymmetric.rates_per_s * elapsed_s)
+        return _side_by_side(following, replace(antisymmetric, amplitudes=decayed)), final
+
+    bath = np.r_[symmetric.bath_basis, np.zeros(antisymmetric.rates_per_s.size)][order]
+    rates = np.r_[symmetric.rates_per_s, antisymmetric.rates_per_s][order]
+    return ModalSolution(
+        engine=symmetric.engine,
+        resolution=antisymmetric.resolution,
+        diffusivity_m2_per_s=symmetric.diffusivity_m2_per_s,
+        rates_per_s=rates,
+        amplitudes=np.r_[symmetric.amplitudes, antisymmetric.amplitudes][order],
+        mode_means=np.r_[symmetric.mode_means, antisymmetric.mode_means][order],
+        basis_at=basis_at,
+        sample_positions_m=positions,
+        refine_max=True,
+        valid_from_s=0.0,
+        slowest_rate_per_s=float(rates[0]),
+        tail=None,
+        sample_basis_of=sample_basis,
+        bath_basis=bath,
+        bath_ratio=symmetric.bath_ratio,
+        restart=restart,
+    )
