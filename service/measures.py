@@ -22,6 +22,18 @@ so that the finite-volume ratio keeps the bound below exactly): dimensionless, f
 for t > 0 (E(0) = ∞ for a start with a jump), never below the mean-square ratio (κ_k ≥ κ_1)
 and equal to it when only the slowest mode is left.
 
+Layered bodies. There u is the deviation of the potential φ = c/K (T for heat), continuous
+across interfaces, and ⟨·⟩ is weighted by each layer's capacity C (K, or ρc_p): the modes
+are orthonormal under Σ∫C_i(·)² and the stiffness is Σ∫Λ_i|∇·|² (Λ = D·K, or k). So the
+mean square here is Σ∫K_i(φ − φ_f)²/Σ∫K_i(φ0 − φ_f)² and the energy Σ∫D_iK_i|∇φ|² (plus
+the film terms): the K-weighted measures on φ, the ones proven never to increase (a plain
+∫(c − c_f)² across layers of different K has no such guarantee).
+
+A finite bath. The modes are then orthonormal over body and bath together (the bath as one
+node of capacity α times the body's), so the body's own ⟨u²⟩ carries the bath's rank-one
+correction (``BathMeanSquare``), and the largest deviation, energy and RSD are not offered.
+Across bath exchanges the measures are piecewise in time (``_Exchanged``).
+
 Which measures are monotone. ⟨u²⟩ and E are sums of decaying positive terms. max|u| never
 increases by the maximum principle for these surfaces (and its discrete counterpart for
 the finite-volume operator). The others can rise before they fall, and the settling time
