@@ -66,10 +66,20 @@ WARNING_CODES: dict[str, str] = {
 }
 
 _ASSUMPTIONS = (
-    "Transport by diffusion or conduction only, in a homogeneous body with constant properties.",
     "No flow, stirring or convection inside the body; any of these would make the real time "
     "shorter.",
-    "The surroundings do not change over time.",
+)
+_HOMOGENEOUS = (
+    "Transport by diffusion or conduction only, in a homogeneous body with constant properties."
+)
+_LAYERED = (
+    "Transport by diffusion or conduction only, each layer homogeneous with constant "
+    "properties, in contact at its interfaces (through the interface resistance if given)."
+)
+_STEADY_SURROUNDINGS = "The surroundings do not change over time."
+_STIRRED_BATH = (
+    "The bath is well stirred (uniform at every instant) and exchanges with nothing but the "
+    "body; at each exchange it is replaced at once by fresh fluid at its starting value."
 )
 _RADIAL_SEALED = (
     "For a sealed cylinder or sphere the answer is for a radially symmetric start; a start that "
@@ -173,7 +183,8 @@ def _interpret(
 
 
 def _assumptions(case: Case, facts: Facts) -> list[str]:
-    assumptions = list(_ASSUMPTIONS)
+    assumptions = [_LAYERED if case.body.layers else _HOMOGENEOUS, *_ASSUMPTIONS]
+    assumptions.append(_STIRRED_BATH if case.bath is not None else _STEADY_SURROUNDINGS)
     if not case.faces.exchanging and case.body.geometry is not Geometry.SLAB:
         assumptions.append(_RADIAL_SEALED)
     if case.medium.partition != 1.0 and any(
