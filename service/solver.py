@@ -7,7 +7,7 @@ the API turns its plain results into responses.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 from numpy.typing import NDArray
@@ -63,6 +63,8 @@ WARNING_CODES: dict[str, str] = {
     "searched; the time given is that upper bound",
     "resolution_capped": "the finite-volume grid reached its cell cap before its estimated error "
     "fell to the accuracy asked",
+    "schedule_too_short": "a temperature schedule ends before the criterion is met; the answer "
+    "extends its soak (its hottest hold) by the time given",
 }
 
 _ASSUMPTIONS = (
@@ -95,6 +97,16 @@ CAUTIONS = (
 
 
 @dataclass(frozen=True)
+class ScheduleAnswer:
+    """Where in a temperature schedule the criterion is met."""
+
+    integrated_diffusivity_m2: float
+    met_in_segment: int | None
+    schedule_end_s: float
+    extra_soak_s: float
+
+
+@dataclass(frozen=True)
 class SettlingAnswer:
     time_s: float
     definition: str
@@ -109,6 +121,7 @@ class SettlingAnswer:
     biot: float | None
     lumped: LumpedAnswer | None = None
     met_after_exchange: int | None = None
+    schedule: ScheduleAnswer | None = None
     warnings: list[tuple[str, str]] = field(default_factory=list)
     assumptions: list[str] = field(default_factory=list)
     cautions: list[str] = field(default_factory=list)
@@ -340,10 +353,25 @@ class Solver:
             values[name] = _finite(reported)
         excited = run.solution.slowest_excited_rate_per_s
         biot = common_biot(case)
+        fourier = time_s / case.diffusion_time_s
+        schedule = None
+        if case.schedule is not None:
+            # the engines ran at D_ref in reference time; ∫D dt = D_ref·t_ref is exact
+            reduced = time_s * case.medium.diffusivity_m2_per_s
+            time_s, segment, extra = case.schedule.clock_time(reduced)
+            schedule = ScheduleAnswer(reduced, segment, case.schedule.duration_s, extra)
+            if segment is None:
+                warnings.append(
+                    (
+                        "schedule_too_short",
+                        f"the schedule ends before the criterion is met: the soak would need "
+                        f"{format_time(extra)} more at its temperature",
+                    )
+                )
         return SettlingAnswer(
             time_s=time_s,
             definition=crossing.definition,
-            fourier_number=time_s / case.diffusion_time_s,
+            fourier_number=fourier,
             final_value=final_value_of(case),
             slowest_rate_per_s=self._slowest_rate(case, run.solution),
             slowest_excited_rate_per_s=excited,
@@ -353,6 +381,7 @@ class Solver:
             estimated_relative_error=run.estimated_relative_error,
             biot=biot,
             lumped=lumped_answer(case, facts),
+            schedule=schedule,
             met_after_exchange=(
                 sum(1 for t in case.bath.exchanges_s if t <= time_s)
                 if case.bath is not None and case.bath.exchanges_s
@@ -387,6 +416,11 @@ class Solver:
                         "here), the earliest time the engines resolve",
                         f"/times/{index}",
                     )
+        clock = times
+        if case.schedule is not None:
+            # clock times in the schedule → the engines' reference time, τ(t)/D_ref
+            schedule, reference = case.schedule, case.medium.diffusivity_m2_per_s
+            times = np.array([schedule.reduced(float(t)) / reference for t in times])
         facts = Facts.of(case)
         engine = self._engine(case)
         solution = engine.solution(case, float(np.min(times)))
@@ -431,8 +465,10 @@ class Solver:
                 deviation = interval.solution.weighted(elapsed) @ bath
                 values[chosen_times] = interval.final_value + deviation
             bath_values = [float(v) for v in values / case.bath.to_potential]
+        for i, snapshot in enumerate(snapshots):
+            snapshots[i] = replace(snapshot, time_s=float(clock[chosen[i]]))
         return HistoryAnswer(
-            times_s=times.tolist(),
+            times_s=clock.tolist(),
             measures=series,
             snapshots=snapshots,
             bath_values=bath_values,

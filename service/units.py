@@ -52,6 +52,11 @@ DIMENSIONS: dict[str, Dimension] = {
     "diffusivity": Dimension("[length]**2/[time]", "a diffusivity (length²/time)", "m^2/s"),
     "velocity": Dimension("[length]/[time]", "a transfer coefficient (length/time)", "m/s"),
     "area": Dimension("[length]**2", "an area", "m^2"),
+    "temperature": Dimension("[temperature]", "a temperature", "K"),
+    "molar_energy": Dimension(
+        "[mass]*[length]**2/[time]**2/[substance]", "an energy per mole", "J/mol"
+    ),
+    "energy": Dimension("[mass]*[length]**2/[time]**2", "an energy", "J"),
     "volume": Dimension("[length]**3", "a volume", "m^3"),
     "conductivity": Dimension(
         "[mass]*[length]/[time]**3/[temperature]", "a thermal conductivity", "W/(m*K)"

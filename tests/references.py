@@ -9,8 +9,11 @@ values are compared to their printed digits with a tolerance of one unit in the 
 from __future__ import annotations
 
 from dataclasses import dataclass
+from typing import Any
 
 __all__ = [
+    "CALLISTER_CARBON_IN_AUSTENITE",
+    "CALLISTER_COPPER_IN_ALUMINIUM",
     "CRANK_F_AT_FOURIER_0_1",
     "CRANK_HALF_TIMES",
     "NO_FLUX_FIRST_WAVENUMBERS",
@@ -140,3 +143,24 @@ THERMOCOUPLE_INPUTS: dict[str, float] = {
     "heat_transfer_coefficient": 210.0,
 }
 THERMOCOUPLE_TIME = Reference(10.0, 2, "Çengel, Heat and Mass Transfer, Example 4-1", "seen quoted")
+
+# Callister, Materials Science and Engineering: An Introduction, diffusion-data table (C in
+# γ-Fe row also seen quoted; the rest from memory): D = D0·exp(−Q/RT). The book rounds Q to
+# three figures, so its printed D agree with the law to about 5 %.
+CALLISTER_CARBON_IN_AUSTENITE: dict[str, Any] = {
+    "d0_m2_per_s": 2.3e-5,
+    "q_kj_per_mol": 148.0,
+    "d_at_900_c": Reference(
+        5.9e-12, 2, "Callister, diffusion-data table, C in γ-Fe", "seen quoted"
+    ),
+    "d_at_1100_c": Reference(5.3e-11, 2, "Callister, diffusion-data table, C in γ-Fe", "memory"),
+}
+# Callister's worked example on equal diffusion results at two temperatures (D·t constant):
+# Cu in Al, D = 5.3e-13 m²/s at 600 °C and 4.8e-14 m²/s at 500 °C; a 10 h treatment at
+# 600 °C matches 110.4 h at 500 °C (from memory).
+CALLISTER_COPPER_IN_ALUMINIUM: dict[str, Any] = {
+    "d_at_600_c": 5.3e-13,
+    "d_at_500_c": 4.8e-14,
+    "hours_at_600_c": 10.0,
+    "hours_at_500_c": Reference(110.4, 4, "Callister, example on D·t = constant", "memory"),
+}

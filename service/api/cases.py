@@ -10,9 +10,10 @@ import math
 from collections.abc import Callable
 from dataclasses import dataclass, field, replace
 
-from service.errors import InvalidInput
+from service.errors import InvalidInput, UnitError
 from service.models import requests as rq
 from service.physics import (
+    Arrhenius,
     Bath,
     Body,
     Case,
@@ -21,6 +22,8 @@ from service.physics import (
     Geometry,
     Layer,
     Medium,
+    Schedule,
+    ScheduleSegment,
     Start,
     Surface,
     SurfaceKind,
@@ -46,6 +49,14 @@ EXCHANGE_LIMIT_S = 1e11
 # A bath's volume (m³) and a slab's face area (m²).
 VOLUME_RANGE = (1e-24, 1e9)
 AREA_RANGE = (1e-18, 1e8)
+# Temperatures (K), durations (s), D0 (m²/s) and activation temperatures Q/R (K).
+TEMPERATURE_RANGE_K = (1e-3, 1e5)
+DURATION_RANGE_S = (1e-9, 1e11)
+D0_RANGE = (1e-30, 1e10)
+ACTIVATION_RANGE_K = (0.0, 1e7)
+# Gas constant R and Boltzmann's constant k_B (exact in the 2019 SI).
+GAS_CONSTANT = 8.314462618
+BOLTZMANN = 1.380649e-23
 # Heat inputs: wider than any real material (aerogels to diamond, gases to metals).
 CONDUCTIVITY_RANGE = (1e-6, 1e5)
 DENSITY_RANGE = (1e-3, 1e5)
@@ -138,6 +149,13 @@ class _Translator:
         """Each layer in the potential that is continuous across interfaces: for heat (every
         layer gives a conductivity) T, with capacity ρ·c_p = k/α and conductivity k; for mass
         (none does) c/K, with capacity K and conductivity D·K."""
+        for i, layer in enumerate(requests):
+            if layer.medium.arrhenius is not None:
+                raise InvalidInput(
+                    "a layer's medium takes a diffusivity (or heat inputs); temperature-"
+                    "dependent layers are not solved here",
+                    f"/body/layers/{i}/medium/arrhenius",
+                )
         media = [
             self.medium(layer.medium, f"/body/layers/{i}/medium")
             for i, layer in enumerate(requests)
@@ -193,7 +211,11 @@ class _Translator:
         label = DIMENSIONS[dimension]
         return _in_range(value, bounds, label.label.removeprefix("a "), label.si_unit, pointer)
 
-    def medium(self, request: rq.Medium, at: str = "/medium") -> Medium:
+    def medium(
+        self, request: rq.Medium, at: str = "/medium", diffusivity_given: float | None = None
+    ) -> Medium:
+        """The medium; ``diffusivity_given`` stands in for the diffusivity when it follows
+        from an Arrhenius law at the case's temperature."""
         conductivity = (
             self.quantity(
                 request.conductivity, "conductivity", CONDUCTIVITY_RANGE, at + "/conductivity"
@@ -201,7 +223,15 @@ class _Translator:
             if request.conductivity is not None
             else None
         )
-        if request.diffusivity is not None:
+        if diffusivity_given is not None:
+            diffusivity = _in_range(
+                diffusivity_given,
+                DIFFUSIVITY_RANGE_M2_PER_S,
+                "the diffusivity D0·exp(−Q/RT)",
+                "m^2/s",
+                at + "/arrhenius",
+            )
+        elif request.diffusivity is not None:
             diffusivity = self.quantity(
                 request.diffusivity, "diffusivity", DIFFUSIVITY_RANGE_M2_PER_S, at + "/diffusivity"
             )
@@ -221,6 +251,83 @@ class _Translator:
             )
         partition = request.partition if request.partition is not None else 1.0
         return Medium(diffusivity, conductivity, partition)
+
+    def temperature(self, raw: float | str, pointer: str) -> float:
+        """An absolute temperature in kelvin; it must carry its unit (900 could be °C or K)."""
+        if not isinstance(raw, str) or "delta" in raw:
+            raise InvalidInput(
+                "give a temperature with its unit, such as '900 degC' or '1173 K' (a bare "
+                "number could be either; a temperature difference is not a temperature)",
+                pointer,
+            )
+        return self.quantity(raw, "temperature", TEMPERATURE_RANGE_K, pointer)
+
+    def arrhenius(self, request: rq.ArrheniusRequest, at: str) -> Arrhenius:
+        """D0 and the activation temperature Q/R (per mole) or Q/k_B (per atom)."""
+        raw = request.activation_energy
+        where = at + "/activation_energy"
+        if not isinstance(raw, str):
+            raise InvalidInput(
+                "give the activation energy with its unit: J/mol, kJ/mol, kcal/mol or eV", where
+            )
+        try:
+            energy = self.units.to_si(raw, "molar_energy", where)
+            activation = energy / GAS_CONSTANT
+        except UnitError:
+            try:
+                energy = self.units.to_si(raw, "energy", where)
+            except UnitError as exc:
+                raise InvalidInput(
+                    f"{raw!r} is not an activation energy: use J/mol, kJ/mol, kcal/mol or eV "
+                    "(per atom)",
+                    where,
+                ) from exc
+            activation = energy / BOLTZMANN
+        _in_range(activation, ACTIVATION_RANGE_K, "the activation energy over R", "K", where)
+        if request.d0 is not None:
+            d0 = self.quantity(request.d0, "diffusivity", D0_RANGE, at + "/d0")
+        else:
+            assert request.d_ref is not None and request.t_ref is not None
+            d_ref = self.quantity(
+                request.d_ref, "diffusivity", DIFFUSIVITY_RANGE_M2_PER_S, at + "/d_ref"
+            )
+            t_ref = self.temperature(request.t_ref, at + "/t_ref")
+            d0 = d_ref * math.exp(activation / t_ref)
+            if not math.isfinite(d0):
+                raise InvalidInput(
+                    "D0 = d_ref·exp(Q/(R·t_ref)) overflows: check the activation energy and the "
+                    "reference temperature",
+                    at,
+                )
+        return Arrhenius(d0, activation)
+
+    def schedule(self, steps: list[rq.ScheduleStep], law: Arrhenius) -> Schedule:
+        """Holds and ramps from the starting temperature, in kelvin and seconds."""
+        first = steps[0]
+        if first.start_at is None:
+            raise InvalidInput("a schedule begins with {'start_at': T}", "/schedule/0")
+        current = self.temperature(first.start_at, "/schedule/0/start_at")
+        segments = []
+        for i, step in enumerate(steps[1:], start=1):
+            at = f"/schedule/{i}"
+            if step.start_at is not None:
+                raise InvalidInput("only the first step is 'start_at'", at)
+            if step.hold is not None:
+                assert step.at is not None
+                duration = self._duration(step.hold, at + "/hold")
+                current = self.temperature(step.at, at + "/at")
+                segments.append(ScheduleSegment(current, current, duration, True))
+            else:
+                assert step.ramp_to is not None and step.over is not None
+                duration = self._duration(step.over, at + "/over")
+                target = self.temperature(step.ramp_to, at + "/ramp_to")
+                segments.append(ScheduleSegment(current, target, duration, False))
+                current = target
+        return Schedule(law, tuple(segments))
+
+    def _duration(self, raw: float | str, pointer: str) -> float:
+        value = self.units.to_si(raw, "time", pointer)
+        return _in_range(value, DURATION_RANGE_S, "a duration", "s", pointer)
 
     def position(self, raw: float | str | rq.PositionSpec, body: Body, pointer: str) -> float:
         extent, inner = body.extent_m, body.inner_m
@@ -556,9 +663,7 @@ def to_case(request: rq.CaseRequest, units: Units) -> Translation:
             "(not both)",
             "/medium",
         )
-    medium = (
-        translator.medium(request.medium) if request.medium is not None else reference_medium(body)
-    )
+    medium, schedule = _medium_and_schedule(translator, request, body)
     start = in_potential(translator.start(request.initial, body), body)
     faces = translator.faces(request, body, medium)
     raw_criterion = getattr(request, "criterion", None)
@@ -575,6 +680,9 @@ def to_case(request: rq.CaseRequest, units: Units) -> Translation:
     bath = translator.bath(request, case)
     if bath is not None:
         case = replace(case, bath=bath)
+    if schedule is not None:
+        _check_separable(request, case)
+        case = replace(case, schedule=schedule)
     return Translation(
         case=case, positions_m=translator.positions, faces_given=request.faces is not None
     )
@@ -615,3 +723,51 @@ def in_potential(start: Start, body: Body) -> Start:
 
 def _boundary_pointer(request: rq.CaseRequest) -> str:
     return "/surface" if request.surface is not None else "/faces"
+
+
+def _medium_and_schedule(
+    translator: _Translator, request: rq.CaseRequest, body: Body
+) -> tuple[Medium, Schedule | None]:
+    """The medium (a layered body's reference one), and the schedule an Arrhenius medium
+    follows; an Arrhenius medium at one temperature is a constant diffusivity."""
+    if request.medium is None:
+        for name in ("temperature", "schedule"):
+            if getattr(request, name) is not None:
+                raise InvalidInput(f"'{name}' goes with an Arrhenius medium", f"/{name}")
+        return reference_medium(body), None
+    law_request = request.medium.arrhenius
+    if law_request is None:
+        for name in ("temperature", "schedule"):
+            if getattr(request, name) is not None:
+                raise InvalidInput(f"'{name}' goes with a medium given as 'arrhenius'", f"/{name}")
+        return translator.medium(request.medium), None
+    law = translator.arrhenius(law_request, "/medium/arrhenius")
+    if (request.temperature is None) == (request.schedule is None):
+        raise InvalidInput(
+            "an Arrhenius medium needs exactly one of 'temperature' or 'schedule'",
+            "/medium/arrhenius",
+        )
+    if request.temperature is not None:
+        kelvin = translator.temperature(request.temperature, "/temperature")
+        return translator.medium(request.medium, diffusivity_given=law.diffusivity(kelvin)), None
+    assert request.schedule is not None
+    schedule = translator.schedule(request.schedule, law)
+    medium = translator.medium(request.medium, diffusivity_given=schedule.reference_diffusivity)
+    return medium, schedule
+
+
+def _check_separable(request: rq.CaseRequest, case: Case) -> None:
+    """Reduced time is exact only while nothing but D changes with temperature: sealed and
+    held surfaces and film-free baths, one material, no bath exchanges (clock times)."""
+    if any(end.biot > 0 for end in case.faces.ends):
+        raise InvalidInput(
+            "under a temperature schedule a surface film's Biot number k·Lc/D changes with D, "
+            "so reduced time is not exact; that needs time stepping, which this version does "
+            "not do: use held or sealed surfaces, or a fixed temperature",
+            _boundary_pointer(request),
+        )
+    if case.bath is not None and case.bath.exchanges_s:
+        raise InvalidInput(
+            "bath exchanges are not combined with a temperature schedule here",
+            "/bath/exchanges",
+        )

@@ -17,6 +17,7 @@ from service.api.deps import (
 )
 from service.api.problems import PROBLEM_RESPONSES
 from service.models import LumpedOut, Method, SettlingRequest, SettlingResponse, WarningOut
+from service.models.responses import ScheduleOut
 from service.solver import Solver, format_time
 
 __all__ = ["router"]
@@ -72,6 +73,16 @@ def _respond(translation: Translation, solver: Solver) -> Response:
             biot=answer.biot,
             biot_by_face=biot_by_face(case, translation.faces_given),
             met_after_exchange=answer.met_after_exchange,
+            schedule=(
+                ScheduleOut(
+                    integrated_diffusivity_m2=answer.schedule.integrated_diffusivity_m2,
+                    met_in_segment=answer.schedule.met_in_segment,
+                    schedule_end_s=answer.schedule.schedule_end_s,
+                    extra_soak_s=answer.schedule.extra_soak_s,
+                )
+                if answer.schedule is not None
+                else None
+            ),
             lumped=(
                 LumpedOut(
                     time_s=answer.lumped.time_s,

@@ -64,6 +64,56 @@ Position = Annotated[
 ]
 
 
+class ArrheniusRequest(_Strict):
+    """D(T) = D0·exp(−Q/(R·T)) (Q per mole) or exp(−Q/(k_B·T)) (Q per atom, as in eV)."""
+
+    d0: Quantity | None = Field(None, description="Pre-exponential factor D0 (m^2/s).")
+    d_ref: Quantity | None = Field(
+        None, description="D at the reference temperature t_ref (m^2/s), in place of d0."
+    )
+    t_ref: Quantity | None = Field(
+        None, description="The reference temperature, with a unit ('900 degC', '1173 K')."
+    )
+    activation_energy: Quantity = Field(
+        description="Q with a unit: J/mol, kJ/mol, kcal/mol, or eV (per atom)."
+    )
+
+    @model_validator(mode="after")
+    def _one_scale(self) -> ArrheniusRequest:
+        if (self.d0 is None) == (self.d_ref is None):
+            raise ValueError("give exactly one of 'd0' or 'd_ref' (with 't_ref')")
+        if (self.d_ref is None) != (self.t_ref is None):
+            raise ValueError("'d_ref' and 't_ref' go together")
+        return self
+
+
+class ScheduleStep(_Strict):
+    """One step of a temperature schedule: {'start_at': T} first, then {'hold': duration,
+    'at': T} or {'ramp_to': T, 'over': duration}. Temperatures carry a unit."""
+
+    start_at: Quantity | None = None
+    hold: Quantity | None = Field(None, description="How long (s, or 'number unit').")
+    at: Quantity | None = Field(None, description="The hold's temperature.")
+    ramp_to: Quantity | None = Field(None, description="The temperature a ramp ends at.")
+    over: Quantity | None = Field(None, description="The ramp's duration.")
+
+    @model_validator(mode="after")
+    def _one_form(self) -> ScheduleStep:
+        forms = {
+            "start_at": (self.start_at,),
+            "hold": (self.hold, self.at),
+            "ramp": (self.ramp_to, self.over),
+        }
+        complete = [name for name, fields in forms.items() if all(f is not None for f in fields)]
+        given = sum(f is not None for fields in forms.values() for f in fields)
+        if len(complete) != 1 or given != len(forms[complete[0]]):
+            raise ValueError(
+                "each step is {'start_at': T}, {'hold': duration, 'at': T} or "
+                "{'ramp_to': T, 'over': duration}"
+            )
+        return self
+
+
 class Medium(_Strict):
     """The body's transport properties: a diffusivity, or for heat the conductivity, density and
     specific heat it follows from (α = k/(ρ·c_p)); the conductivity may also accompany a
@@ -80,6 +130,11 @@ class Medium(_Strict):
     specific_heat: Quantity | None = Field(
         None, description="Specific heat capacity c_p (J/(kg*K), or 'number unit')."
     )
+    arrhenius: ArrheniusRequest | None = Field(
+        None,
+        description="A diffusivity that follows the temperature (with a top-level "
+        "'temperature' or 'schedule'), in place of 'diffusivity'.",
+    )
     partition: float | None = Field(
         None,
         gt=0,
@@ -95,6 +150,12 @@ class Medium(_Strict):
     @model_validator(mode="after")
     def _determined(self) -> Medium:
         heat = (self.conductivity, self.density, self.specific_heat)
+        if self.arrhenius is not None:
+            if self.diffusivity is not None or self.density is not None:
+                raise ValueError(
+                    "give 'arrhenius' in place of 'diffusivity' (or the heat inputs), not with it"
+                )
+            return self
         if self.diffusivity is None and any(v is None for v in heat):
             raise ValueError(
                 "give 'diffusivity', or 'conductivity', 'density' and 'specific_heat' (the "
@@ -435,6 +496,16 @@ class CaseRequest(_Strict):
     )
     bath: BathRequest | None = Field(
         None, description="A finite, well-stirred bath touching the surfaces of kind 'bath'."
+    )
+    temperature: Quantity | None = Field(
+        None, description="The temperature of an Arrhenius medium, with a unit ('900 degC')."
+    )
+    schedule: list[ScheduleStep] | None = Field(
+        None,
+        min_length=2,
+        max_length=200,
+        description="A temperature schedule for an Arrhenius medium: {'start_at': T}, then "
+        "holds and ramps. The time asked is the clock time in the schedule.",
     )
     engine: Literal["auto", "series", "finite_volume"] = Field(
         "auto", description="'auto' runs the exact series where it applies."

@@ -12,6 +12,7 @@ __all__ = [
     "Problem",
     "ProblemItem",
     "ProfilePieceOut",
+    "ScheduleOut",
     "SettlingResponse",
     "SnapshotOut",
     "WarningOut",
@@ -68,6 +69,23 @@ class FinalStateOut(BaseModel):
     )
 
 
+class ScheduleOut(BaseModel):
+    """Where in a temperature schedule the criterion is met (time_s is the clock time)."""
+
+    integrated_diffusivity_m2: float = Field(
+        description="∫D dt needed, exact per segment (ramps in closed form with E1)."
+    )
+    met_in_segment: int | None = Field(
+        description="Index of the hold or ramp (after start_at, from 0) it is met in; null "
+        "when the schedule ends first."
+    )
+    schedule_end_s: float
+    extra_soak_s: float = Field(
+        description="When the schedule ends first: how much longer its soak (hottest hold) "
+        "would need; 0 otherwise."
+    )
+
+
 class LumpedOut(BaseModel):
     """The lumped (uniform-body) model's answer, given when the classical Biot number on V/A
     is below 0.1: the body then stays nearly uniform and one exponential describes it."""
@@ -112,6 +130,9 @@ class SettlingResponse(BaseModel):
         None,
         description="Each convective face's Biot number on Lc, by face name, when 'faces' was "
         "given.",
+    )
+    schedule: ScheduleOut | None = Field(
+        None, description="With a temperature schedule: the reduced time and where it is met."
     )
     met_after_exchange: int | None = Field(
         None,

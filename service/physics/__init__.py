@@ -24,8 +24,10 @@ from service.physics.case import (
     characteristic_length,
     final_state,
 )
+from service.physics.schedule import Arrhenius, Schedule, ScheduleSegment
 
 __all__ = [
+    "Arrhenius",
     "Bath",
     "Body",
     "Case",
@@ -35,6 +37,8 @@ __all__ = [
     "Geometry",
     "Layer",
     "Medium",
+    "Schedule",
+    "ScheduleSegment",
     "Start",
     "Surface",
     "SurfaceKind",

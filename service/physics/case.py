@@ -11,6 +11,8 @@ from functools import cached_property
 import numpy as np
 from numpy.typing import NDArray
 
+from service.physics.schedule import Schedule
+
 __all__ = [
     "Bath",
     "Body",
@@ -338,6 +340,9 @@ class Case:
     accuracy: float = 1e-4
     engine: str = "auto"
     bath: Bath | None = None
+    # an Arrhenius diffusivity following a temperature schedule: the engines then work at
+    # the medium's diffusivity (D at the hottest temperature) in reference time
+    schedule: Schedule | None = None
 
     @property
     def layers(self) -> tuple[Layer, ...]:
