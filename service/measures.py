@@ -177,6 +177,15 @@ class Measure(ABC):
 
     name: ClassVar[str]
     is_monotone: ClassVar[bool]
+    # whether the time sought is the first at which value ≤ level (a value reached), not the
+    # last crossing
+    first_crossing: ClassVar[bool] = False
+
+    @property
+    def passes_for_good(self) -> bool:
+        """For a first crossing: whether the measure ends below its level (then the level is
+        surely reached); otherwise only a swing before it turns monotone can reach it."""
+        return True
 
     def __init__(self, facts: Facts, solution: ModalSolution, level: float) -> None:
         self.facts = facts
@@ -631,6 +640,49 @@ class RemainingFraction(_SignedSum):
         return np.asarray(held / facts.amount_start)
 
 
+class Reaches(_SignedSum):
+    """(c(x, t) − v)/(c0(x) − v): 1 at the start, 0 when the point reaches the value v. The
+    time sought is the first at which it is ≤ 0 (the value attained), not the last crossing."""
+
+    name = "reaches"
+    first_crossing = True
+
+    def __init__(
+        self, facts: Facts, solution: ModalSolution, position_m: float, offset: float, span: float
+    ) -> None:
+        super().__init__(facts, solution, 0.0)
+        self.position_m = position_m
+        # c − v = (c_f − v) + u: the constant part, and the start's distance from v
+        self._offset = offset
+        self._span = span
+        self._c = solution.amplitudes * solution.basis_at(np.array([position_m]))[0]
+
+    def _coefficients(self) -> FloatArray:
+        return self._c
+
+    def _scale(self) -> float:
+        return self._span
+
+    def values(self, times_s: FloatArray) -> FloatArray:
+        return np.asarray((self._offset + self.signed(times_s)) / self._span)
+
+    def value(self, time_s: float) -> float:
+        exponents, terms = self._scaled
+        return float(self._offset / self._span + np.exp(exponents * time_s) @ terms)
+
+    def log_rate(self, time_s: float) -> tuple[float, float] | None:
+        return None
+
+    def initial_value(self) -> float:
+        return 1.0
+
+    @property
+    def passes_for_good(self) -> bool:
+        """Whether the point ends past the value (then it is surely reached); otherwise only
+        a transient swing can reach it, before the measure turns monotone."""
+        return self._offset * self._span < 0
+
+
 class _Exchanged(Measure):
     """A measure across bath exchanges: piecewise in time, each interval following its own
     restarted solution, searched for its last crossing over all of them. After the last
@@ -783,6 +835,7 @@ MEASURES: dict[str, type[Measure]] = {
         ValueAt,
         BathValue,
         RemainingFraction,
+        Reaches,
     )
 }
 
@@ -804,6 +857,8 @@ def build_measure(
         return BathMeanSquare(facts, solution, criterion.tolerance)
     if name == "bath_value":
         return _bath_value(case, facts, solution, criterion)
+    if name == "reaches":
+        return _reaches(case, facts, solution, criterion)
     if name == "remaining_fraction":
         assert criterion.fraction is not None
         return _remaining_fraction(facts, solution, criterion.fraction)
@@ -882,6 +937,21 @@ def _exchanged(
     return ExchangedBathValue(facts, intervals, level, single_bath, scale)
 
 
+def _reaches(case: Case, facts: Facts, solution: ModalSolution, criterion: Criterion) -> Reaches:
+    """The point's value reaching ``criterion.value``: it must start on one side of it and
+    end on the other (a value it only tends to is never attained)."""
+    assert criterion.position_m is not None and criterion.value is not None
+    point = np.array([criterion.position_m])
+    partition = float(case.partition_at(point)[0])
+    target = criterion.value / partition  # in the engines' potential
+    start = float(case.start.values(point)[0])
+    final = float(case.final_state.values(point)[0])
+    if start == target:
+        raise InvalidInput(f"the point starts at {criterion.value:.6g} already", "/criterion/value")
+    span = start - target
+    return Reaches(facts, solution, criterion.position_m, final - target, span)
+
+
 def _bath_value(
     case: Case, facts: Facts, solution: ModalSolution, criterion: Criterion
 ) -> BathValue:
@@ -944,6 +1014,8 @@ def defined_measures(
             continue
         elif name == "mean_square_deviation" and with_bath:
             out[name] = BathMeanSquare(facts, solution, 1.0)
+        elif name == "reaches":
+            continue  # only as the criterion's own measure
         elif name == "bath_value":
             if with_bath and facts.bath_start_deviation:
                 out[name] = BathValue(facts, solution, 1.0, False)

@@ -21,7 +21,7 @@ import numpy as np
 from scipy import optimize
 
 from service.engines.common import ROOT_RTOL, Crossing
-from service.errors import NumericalFailure
+from service.errors import InvalidInput, NumericalFailure
 from service.measures import Measure
 
 __all__ = ["find_settling_time"]
@@ -45,7 +45,9 @@ def find_settling_time(measure: Measure, floor_s: float, near_s: float | None = 
     """Settling time of ``measure`` on its solution, searching no earlier than ``floor_s``;
     ``near_s``, a time close to the answer (found on another grid), narrows the bracket of
     a monotone measure."""
-    if measure.is_monotone:
+    if measure.first_crossing:
+        crossing = _first_crossing(measure, floor_s)
+    elif measure.is_monotone:
         crossing = _monotone(measure, floor_s, near_s)
     else:
         crossing = _last_crossing(measure, floor_s)
@@ -81,6 +83,8 @@ def _root(measure: Measure, lower_s: float, upper_s: float) -> float:
 
 
 def _newton(measure: Measure, lower_s: float, upper_s: float) -> float | None:
+    if not measure.level > 0:
+        return None  # a signed measure crossing zero: Brent's method
     target = math.log(measure.level)
     time_s = upper_s
     for _ in range(_NEWTON_STEPS):
@@ -137,6 +141,35 @@ def _monotone(measure: Measure, floor_s: float, near_s: float | None) -> Crossin
         factor = min(factor * factor, _EXPAND)
         upper, lower = lower, lower / factor
     return Crossing(_root(measure, max(lower, floor_s), upper), "monotone", hit_floor=False)
+
+
+def _first_crossing(measure: Measure, floor_s: float) -> Crossing:
+    """The first time the measure falls to its level (a value reached at a point): scan up in
+    log t from the floor, then root-find the first bracket. The measure tends to a value
+    below its level (the caller checks that it does), so the scan ends."""
+    if _excess(measure, floor_s) <= 0:
+        return Crossing(floor_s, "first_crossing", hit_floor=True, holds_throughout=True)
+    # a point that ends short of the value can reach it only in a swing, before the measure
+    # turns monotone; one that ends past it surely does
+    eventually = measure.passes_for_good
+    horizon = math.inf if eventually else max(measure.settled_after_s(floor_s), floor_s)
+    step = 10.0 ** (1.0 / _SAMPLES_PER_DECADE)
+    current = floor_s
+    for _ in range(_MAX_EXPANSIONS):
+        times = current * step ** np.arange(1, _CHUNK + 1)
+        reached = np.flatnonzero(measure.values(times) <= measure.level)
+        if reached.size:
+            first = int(reached[0])
+            lower = float(times[first - 1]) if first > 0 else current
+            return Crossing(_root(measure, lower, float(times[first])), "first_crossing", False)
+        current = float(times[-1])
+        if current > horizon:
+            raise InvalidInput(
+                "the point never reaches that value: it tends to the other side of it, and no "
+                "swing on the way gets there",
+                "/criterion/value",
+            )
+    raise NumericalFailure("the value is never reached")
 
 
 def _last_crossing(measure: Measure, floor_s: float) -> Crossing:

@@ -225,3 +225,29 @@ def test_only_series_answers_count_as_quick(solver: Solver) -> None:
     )
     assert solver.is_quick(solid)
     assert not solver.is_quick(hollow)
+
+
+def test_first_crossing_precedes_the_last_for_a_passing_band(solver: Solver) -> None:
+    """A point beside a band in a sealed slab: its value rises past the final mean and falls
+    back. 'reaches' the final-plus-a-bit value answers the first time it gets there; value_at
+    with the same margin answers when it stays within it — later."""
+    band = Start.from_pieces([(0.0, 0.4, 0.0, 0.0), (0.4, 0.6, 1.0, 1.0), (0.6, 2.0, 0.0, 0.0)])
+    final = 0.1  # the band holds 0.2 of the 2-long slab's amount
+    first = solver.settle(
+        make_case(
+            Geometry.SLAB,
+            SurfaceKind.NO_FLUX,
+            start=band,
+            criterion=Criterion("reaches", position_m=0.3, value=final + 0.05),
+        )
+    )
+    last = solver.settle(
+        make_case(
+            Geometry.SLAB,
+            SurfaceKind.NO_FLUX,
+            start=band,
+            criterion=Criterion("value_at", absolute_tolerance=0.05, position_m=0.3),
+        )
+    )
+    assert first.definition == "first_crossing"
+    assert 0 < first.time_s < last.time_s

@@ -644,6 +644,9 @@ class _Translator:
             )
         if isinstance(request, rq.FractionCriterion | rq.RemainingFractionCriterion):
             return Criterion(request.measure, fraction=request.fraction)
+        if isinstance(request, rq.ReachesCriterion):
+            position = self.position(request.position, body, "/criterion/position")
+            return Criterion("reaches", position_m=position, value=request.value)
         if isinstance(request, rq.BathValueCriterion):
             return Criterion(
                 "bath_value",

@@ -417,6 +417,15 @@ class BathValueCriterion(_Strict):
         return self
 
 
+class ReachesCriterion(_Strict):
+    """The first time the point reaches ``value`` (a centre temperature that must be
+    attained, a case depth's carbon content); answered as a first crossing."""
+
+    measure: Literal["reaches"]
+    position: Position
+    value: Value
+
+
 class RemainingFractionCriterion(_Strict):
     """M(t)/M(0) ≤ fraction: the share of its starting amount the body still holds (amounts
     counted from zero of the value units)."""
@@ -433,7 +442,8 @@ Criterion = Annotated[
     | FractionCriterion
     | ValueAtCriterion
     | BathValueCriterion
-    | RemainingFractionCriterion,
+    | RemainingFractionCriterion
+    | ReachesCriterion,
     Field(discriminator="measure"),
 ]
 

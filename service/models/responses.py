@@ -99,7 +99,9 @@ class LumpedOut(BaseModel):
 class SettlingResponse(BaseModel):
     time_s: float = Field(description="Earliest time after which the criterion holds for good.")
     time_text: str
-    time_definition: str = Field(description="'monotone' or 'last_crossing'.")
+    time_definition: str = Field(
+        description="'monotone', 'last_crossing', or 'first_crossing' (a value reached)."
+    )
     fourier_number: float = Field(description="D·t/Lc².")
     characteristic_length_m: float
     length_convention: str = Field(

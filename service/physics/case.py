@@ -328,6 +328,8 @@ class Criterion:
     fraction: float | None = None
     position_m: float | None = None
     absolute_tolerance: float | None = None
+    # the value a point must reach (the 'reaches' measure), in value units
+    value: float | None = None
 
 
 @dataclass(frozen=True)

@@ -239,3 +239,47 @@ def test_heat_and_partition_errors_name_the_field(
     response = client.post("/v1/settling-time", json=request)
     assert response.status_code == 422, response.text
     assert pointer in [e["pointer"] for e in response.json()["errors"]]
+
+
+def test_reaches_is_the_first_time_a_point_attains_a_value(
+    client: TestClient, heated_sphere: dict[str, Any]
+) -> None:
+    """The same sphere's centre (20 °C into 120 °C) reaches 110 °C when θ = 0.1: the
+    one-term table's Fourier number again, now as a first crossing; the finite-volume engine
+    agrees with the series."""
+    request: dict[str, Any] = {
+        "body": {"shape": "sphere", "radius": "5 cm"},
+        "medium": {
+            "conductivity": "1 W/(m*K)",
+            "density": "1000 kg/m^3",
+            "specific_heat": "1 kJ/(kg*K)",
+        },
+        "initial": {"kind": "uniform", "value": 20},
+        "surface": {
+            "kind": "convective",
+            "heat_transfer_coefficient": "200 W/(m^2*K)",
+            "ambient": 120,
+        },
+        "criterion": {"measure": "reaches", "position": "centre", "value": 110},
+    }
+    series = _post(client, request)
+    volume = _post(client, {**request, "engine": "finite_volume"})
+    assert series["time_definition"] == "first_crossing"
+    assert series["fourier_number"] == pytest.approx(_centre_time_one_term(10.0, 0.1), rel=5e-4)
+    assert volume["time_s"] == pytest.approx(series["time_s"], rel=1e-4)
+    assert series["time_s"] == pytest.approx(heated_sphere["time_s"], rel=1e-9)
+
+
+def test_reaches_is_refused_for_a_value_never_attained(client: TestClient) -> None:
+    response = client.post(
+        "/v1/settling-time",
+        json={
+            "body": {"shape": "sphere", "radius": "5 cm"},
+            "medium": {"diffusivity": 1e-6},
+            "initial": {"kind": "uniform", "value": 20},
+            "surface": {"kind": "fixed_value", "value": 120},
+            "criterion": {"measure": "reaches", "position": "centre", "value": 130},
+        },
+    )
+    assert response.status_code == 422
+    assert response.json()["errors"][0]["pointer"] == "/criterion/value"
