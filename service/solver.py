@@ -27,7 +27,7 @@ from service.measures import (
     build_measure,
     defined_measures,
 )
-from service.physics import Case, Geometry, SurfaceKind
+from service.physics import Body, Case, Faces, Geometry, Start, SurfaceKind
 from service.settling import find_settling_time
 
 __all__ = [
@@ -79,6 +79,17 @@ _LAYERED = (
     "properties, in contact at its interfaces (through the interface resistance if given)."
 )
 _STEADY_SURROUNDINGS = "The surroundings do not change over time."
+_SEMI_INFINITE = (
+    "The body is semi-infinite: deep enough that its far side does not matter by the answer "
+    "(the erfc solution)."
+)
+# A semi-infinite body's slab: half-thickness at least this many √(D·t) at the answer, at
+# least this absolute size, grown at most this many times; a real thickness with
+# D·t/thickness² above the last figure is warned about.
+SEMI_INFINITE_DEPTHS = 12.0
+SEMI_INFINITE_MIN_HALF_M = 1e-9
+SEMI_INFINITE_ROUNDS = 12
+SEMI_INFINITE_FO = 0.05
 _STIRRED_BATH = (
     "The bath is well stirred (uniform at every instant) and exchanges with nothing but the "
     "body; at each exchange it is replaced at once by fresh fluid at its starting value."
@@ -112,8 +123,8 @@ class SettlingAnswer:
     definition: str
     fourier_number: float
     final_value: float | None
-    slowest_rate_per_s: float
-    slowest_excited_rate_per_s: float
+    slowest_rate_per_s: float | None
+    slowest_excited_rate_per_s: float | None
     measures: dict[str, float | None]
     engine: str
     resolution: int
@@ -229,6 +240,23 @@ def describe_final_state(case: Case) -> str:
     )
 
 
+def _as_deep_slab(case: Case, half_m: float) -> Case:
+    """The semi-infinite case as a symmetric slab of half-thickness ``half_m``."""
+    assert case.semi_infinite is not None
+    body = Body(Geometry.SLAB, 2 * half_m)
+    surface = case.faces.outer
+    transfer = case.semi_infinite.transfer_m_per_s
+    if transfer is not None:
+        surface = replace(surface, biot=transfer * half_m / case.medium.diffusivity_m2_per_s)
+    return replace(
+        case,
+        body=body,
+        start=Start.uniform(2 * half_m, float(case.start.v0[0])),
+        faces=Faces.alike(body, surface),
+        semi_infinite=None,
+    )
+
+
 def final_value_of(case: Case) -> float | None:
     """The uniform final value in value units; None when the body ends in a profile or, being
     layered with different partition coefficients, at a different value in each layer."""
@@ -304,6 +332,49 @@ class Solver:
 
     def settle(self, case: Case) -> SettlingAnswer:
         """The settling time of ``case`` under its criterion, with every measure at that time."""
+        if case.semi_infinite is not None:
+            return self._settle_semi_infinite(case)
+        return self._settle(case)
+
+    def _settle_semi_infinite(self, case: Case) -> SettlingAnswer:
+        """A semi-infinite body as a symmetric slab deep enough that its middle is untouched
+        at the answer: half-thickness ≥ 12·√(D·t) (erfc(6) ≈ 2e-17 of the change reaches
+        there), grown until the answer found on it satisfies that."""
+        assert case.semi_infinite is not None and case.criterion is not None
+        diffusivity = case.medium.diffusivity_m2_per_s
+        depth = case.criterion.position_m or 0.0
+        half = max(4.0 * depth, SEMI_INFINITE_MIN_HALF_M)
+        for _ in range(SEMI_INFINITE_ROUNDS):
+            answer = self._settle(_as_deep_slab(case, half))
+            needed = max(SEMI_INFINITE_DEPTHS * math.sqrt(diffusivity * answer.time_s), 4 * depth)
+            if half >= needed:
+                break
+            half = 1.5 * needed
+        warnings = [w for w in answer.warnings if w[0] != "lumped_would_do"]
+        thickness = case.semi_infinite.real_thickness_m
+        if thickness is not None and diffusivity * answer.time_s / thickness**2 > SEMI_INFINITE_FO:
+            warnings.append(
+                (
+                    "semi_infinite_beyond_validity",
+                    f"by then D·t/thickness² = {diffusivity * answer.time_s / thickness**2:.3g} "
+                    f"for the real {thickness:.3g} m: above {SEMI_INFINITE_FO}, its far side "
+                    "already matters and a slab of that thickness should be used",
+                )
+            )
+        name = case.criterion.measure
+        return replace(
+            answer,
+            fourier_number=answer.time_s / case.diffusion_time_s,
+            slowest_rate_per_s=None,
+            slowest_excited_rate_per_s=None,
+            measures={name: answer.measures[name]},
+            biot=None,
+            lumped=None,
+            warnings=warnings,
+            assumptions=[*answer.assumptions[:-1], _SEMI_INFINITE],
+        )
+
+    def _settle(self, case: Case) -> SettlingAnswer:
         criterion = case.criterion
         if criterion is None:
             raise InvalidInput("a settling time needs a criterion", "/criterion")
@@ -417,6 +488,14 @@ class Solver:
                         f"/times/{index}",
                     )
         clock = times
+        reach = case.body.extent_m
+        if case.semi_infinite is not None:
+            # deep enough for the latest time asked; profiles down to about 6·√(D·t)
+            depth = case.criterion.position_m if case.criterion is not None else None
+            spread = math.sqrt(case.medium.diffusivity_m2_per_s * float(np.max(times)))
+            half = max(SEMI_INFINITE_DEPTHS * spread, 4.0 * (depth or 0.0))
+            case = _as_deep_slab(case, half)
+            reach = half / 2
         if case.schedule is not None:
             # clock times in the schedule → the engines' reference time, τ(t)/D_ref
             schedule, reference = case.schedule, case.medium.diffusivity_m2_per_s
@@ -428,7 +507,7 @@ class Solver:
         series: dict[str, list[float | None]] = {}
         for name, each in measured.items():
             series[name] = [_finite(float(v)) for v in each.reported(times)]
-        positions = np.linspace(case.body.inner_m, case.body.extent_m, SNAPSHOT_POINTS)
+        positions = np.linspace(case.body.inner_m, reach, SNAPSHOT_POINTS)
         chosen = (
             np.unique(
                 np.linspace(0, times.size - 1, min(snapshot_count, times.size)).round().astype(int)

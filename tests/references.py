@@ -13,9 +13,11 @@ from typing import Any
 
 __all__ = [
     "CALLISTER_CARBON_IN_AUSTENITE",
+    "CALLISTER_CARBURIZING",
     "CALLISTER_COPPER_IN_ALUMINIUM",
     "CRANK_F_AT_FOURIER_0_1",
     "CRANK_HALF_TIMES",
+    "ERF_HALF",
     "NO_FLUX_FIRST_WAVENUMBERS",
     "ONE_TERM",
     "ONE_TERM_SOURCE",
@@ -164,3 +166,17 @@ CALLISTER_COPPER_IN_ALUMINIUM: dict[str, Any] = {
     "hours_at_600_c": 10.0,
     "hours_at_500_c": Reference(110.4, 4, "Callister, example on D·t = constant", "memory"),
 }
+
+# Callister's carburizing example (semi-infinite solid, erf solution): steel at 0.25 wt% C,
+# surface held at 1.20 wt%, D = 1.6e-11 m²/s at 950 °C: 0.80 wt% at 0.5 mm after 7.1 h
+# (printed; from memory).
+CALLISTER_CARBURIZING: dict[str, Any] = {
+    "start": 0.25,
+    "surface": 1.20,
+    "value": 0.80,
+    "depth_m": 0.5e-3,
+    "diffusivity": 1.6e-11,
+    "hours": Reference(7.1, 2, "Callister, carburizing example (erf solution)", "memory"),
+}
+# erf(0.5) as printed in Callister's error-function table (Table 5.1; seen in a reproduction).
+ERF_HALF = Reference(0.5205, 4, "Callister, error-function table", "seen")

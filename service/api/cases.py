@@ -24,6 +24,7 @@ from service.physics import (
     Medium,
     Schedule,
     ScheduleSegment,
+    SemiInfinite,
     Start,
     Surface,
     SurfaceKind,
@@ -57,6 +58,9 @@ ACTIVATION_RANGE_K = (0.0, 1e7)
 # Gas constant R and Boltzmann's constant k_B (exact in the 2019 SI).
 GAS_CONSTANT = 8.314462618
 BOLTZMANN = 1.380649e-23
+# The length a semi-infinite body's film Biot number is computed on before the solver
+# sizes its slab (it only carries k_eff = Bi·D/length from request to solver).
+SEMI_INFINITE_REFERENCE_M = 1e-3
 # Heat inputs: wider than any real material (aerogels to diamond, gases to metals).
 CONDUCTIVITY_RANGE = (1e-6, 1e5)
 DENSITY_RANGE = (1e-3, 1e5)
@@ -110,12 +114,17 @@ class _Translator:
     def __init__(self, units: Units) -> None:
         self.units = units
         self.positions: dict[str, float] = {}
+        self.semi_infinite = False
 
     def length(self, raw: float | str, pointer: str) -> float:
         value = self.units.to_si(raw, "length", pointer)
         return _in_range(value, LENGTH_RANGE_M, "a length", "m", pointer)
 
-    def body(self, request: rq.SlabBody | rq.RadialBody) -> Body:
+    def body(self, request: rq.SlabBody | rq.RadialBody | rq.SemiInfiniteBody) -> Body:
+        if isinstance(request, rq.SemiInfiniteBody):
+            # a provisional slab as deep as any length accepted; the solver sizes the real one
+            self.semi_infinite = True
+            return Body(Geometry.SLAB, 2 * LENGTH_RANGE_M[1])
         geometry = _GEOMETRY[request.shape]
         inner = self._inner_radius(request)
         if request.layers is not None:
@@ -338,6 +347,8 @@ class _Translator:
             if is_slab
             else {"outer": (extent, -1.0), **({"inner": (inner, 1.0)} if inner > 0 else {})}
         )
+        if self.semi_infinite:
+            faces = {"first": (0.0, 1.0)}  # the one surface; x is the depth below it
         default_face = "first" if is_slab else "outer"
         if isinstance(raw, rq.PositionSpec):
             face = raw.face or default_face
@@ -367,7 +378,13 @@ class _Translator:
         else:
             value = self.units.to_si(raw, "length", pointer)
             if not inner <= value <= extent:
-                axis = "from the first face" if is_slab else "from the centre"
+                axis = (
+                    "below the surface"
+                    if self.semi_infinite
+                    else "from the first face"
+                    if is_slab
+                    else "from the centre"
+                )
                 raise InvalidInput(
                     f"the position {value:g} m ({axis}) is outside the body, which "
                     f"spans {inner:g} to {extent:g} m",
@@ -376,8 +393,9 @@ class _Translator:
         self.positions[pointer] = value
         return value
 
-    @staticmethod
-    def _centre(body: Body, pointer: str) -> float:
+    def _centre(self, body: Body, pointer: str) -> float:
+        if self.semi_infinite:
+            raise InvalidInput("a semi-infinite body has no centre; give a depth", pointer)
         if body.geometry is Geometry.SLAB:
             return body.extent_m / 2
         if body.inner_m > 0:
@@ -439,6 +457,9 @@ class _Translator:
             Surface(SurfaceKind(ends[1][0].kind)),
         )
         length, _ = characteristic_length(body, kinds)
+        if self.semi_infinite:
+            # no length of its own: a Biot number on a reference length carries the film
+            length = SEMI_INFINITE_REFERENCE_M
         materials = _end_materials(body, medium)
         inner_end = (
             self.surface(ends[0][0], length, materials[0], ends[0][1])
@@ -599,14 +620,17 @@ class _Translator:
     def _body_volume(self, request: rq.CaseRequest, case: Case) -> float:
         """The body's K-weighted volume ∫K dV (its plain volume when homogeneous, whose K
         enters the ratio separately)."""
+        shape = request.body
+        if isinstance(shape, rq.SemiInfiniteBody):
+            raise InvalidInput("a semi-infinite body has no volume to set a bath against", "/bath")
         body = case.body
         # ∫ C r^m dr is per unit face area (slab), per unit length and radian (cylinder) or
         # per steradian (sphere)
         weight = case.body_weight
         scale: dict[Geometry, Callable[[], float]] = {
-            Geometry.SLAB: lambda: self._size(request.body, "face_area", "area", "/body/face_area"),
+            Geometry.SLAB: lambda: self._size(shape, "face_area", "area", "/body/face_area"),
             Geometry.CYLINDER: lambda: (
-                2 * math.pi * self._size(request.body, "length", "length", "/body/length")
+                2 * math.pi * self._size(shape, "length", "length", "/body/length")
             ),
             Geometry.SPHERE: lambda: 4 * math.pi,
         }
@@ -686,6 +710,8 @@ def to_case(request: rq.CaseRequest, units: Units) -> Translation:
     if schedule is not None:
         _check_separable(request, case)
         case = replace(case, schedule=schedule)
+    if translator.semi_infinite:
+        case = replace(case, semi_infinite=_semi_infinite(request, translator, case))
     return Translation(
         case=case, positions_m=translator.positions, faces_given=request.faces is not None
     )
@@ -774,3 +800,40 @@ def _check_separable(request: rq.CaseRequest, case: Case) -> None:
             "bath exchanges are not combined with a temperature schedule here",
             "/bath/exchanges",
         )
+
+
+def _semi_infinite(request: rq.CaseRequest, translator: _Translator, case: Case) -> SemiInfinite:
+    """What a semi-infinite body needs beyond the provisional slab: its surface's transfer
+    coefficient (a Biot number needs a length it has not got) and the real thickness."""
+    if request.surface is None or case.faces.outer.kind not in (
+        SurfaceKind.FIXED_VALUE,
+        SurfaceKind.CONVECTIVE,
+    ):
+        raise InvalidInput(
+            "a semi-infinite body takes one 'surface', held ('fixed_value') or convective",
+            "/surface" if request.surface is not None else "/faces",
+        )
+    surface = request.surface
+    if isinstance(surface, rq.ConvectiveSurface) and surface.biot is not None:
+        raise InvalidInput(
+            "a semi-infinite body has no length for a Biot number: give the surface's "
+            "'transfer_coefficient' or 'heat_transfer_coefficient'",
+            "/surface/biot",
+        )
+    if not (case.start.x0.size == 1 and case.start.v0[0] == case.start.v1[0]):
+        raise InvalidInput("a semi-infinite body starts uniform here", "/initial")
+    criterion = case.criterion
+    if criterion is not None and criterion.measure not in ("reaches", "value_at"):
+        raise InvalidInput(
+            "a semi-infinite body is asked about a point: use 'reaches' or 'value_at'",
+            "/criterion/measure",
+        )
+    outer = case.faces.outer
+    transfer = None
+    if outer.kind is SurfaceKind.CONVECTIVE:
+        transfer = outer.biot * case.medium.diffusivity_m2_per_s / SEMI_INFINITE_REFERENCE_M
+    thickness = None
+    assert isinstance(request.body, rq.SemiInfiniteBody)
+    if request.body.thickness is not None:
+        thickness = translator.length(request.body.thickness, "/body/thickness")
+    return SemiInfinite(transfer, thickness)

@@ -61,7 +61,7 @@ def _respond(translation: Translation, solver: Solver) -> Response:
             final_state=final_state_out(case),
             slowest_rate_per_s=answer.slowest_rate_per_s,
             slowest_excited_rate_per_s=rate,
-            time_constant_s=1.0 / rate,
+            time_constant_s=1.0 / rate if rate else None,
             measures=answer.measures,
             method=Method(
                 engine=answer.engine,

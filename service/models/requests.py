@@ -237,7 +237,19 @@ class RadialBody(_Strict):
         return self
 
 
-Body = Annotated[SlabBody | RadialBody, Field(discriminator="shape")]
+class SemiInfiniteBody(_Strict):
+    """A body deep enough that the far side does not matter (a case-hardened surface layer,
+    soil, a thick wall at early times): x runs from the surface inward."""
+
+    shape: Literal["semi_infinite"]
+    thickness: Quantity | None = Field(
+        None,
+        description="The real part's thickness (m), when known: the answer warns if it is too "
+        "thin to count as semi-infinite by then.",
+    )
+
+
+Body = Annotated[SlabBody | RadialBody | SemiInfiniteBody, Field(discriminator="shape")]
 
 
 class UniformStart(_Strict):

@@ -112,9 +112,13 @@ class SettlingResponse(BaseModel):
         description="The uniform final value; null when the body ends in a steady profile."
     )
     final_state: FinalStateOut
-    slowest_rate_per_s: float = Field(description="D·λ1², the body's slowest mode.")
-    slowest_excited_rate_per_s: float = Field(description="The slowest mode the start excites.")
-    time_constant_s: float = Field(description="1/slowest_excited_rate_per_s.")
+    slowest_rate_per_s: float | None = Field(
+        description="D·λ1², the body's slowest mode (null for a semi-infinite body)."
+    )
+    slowest_excited_rate_per_s: float | None = Field(
+        description="The slowest mode the start excites."
+    )
+    time_constant_s: float | None = Field(description="1/slowest_excited_rate_per_s.")
     measures: dict[str, float | None] = Field(
         description="Each measure defined for the case at time_s, as its criterion compares it "
         "(fraction_equilibrated as F itself); null where not finite."

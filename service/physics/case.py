@@ -21,6 +21,7 @@ __all__ = [
     "Faces",
     "Geometry",
     "Medium",
+    "SemiInfinite",
     "Start",
     "Surface",
     "SurfaceKind",
@@ -320,6 +321,17 @@ class Bath:
 
 
 @dataclass(frozen=True)
+class SemiInfinite:
+    """A semi-infinite body: solved as a symmetric slab made thick enough that its middle
+    stays undisturbed until the answer (so its answer is the erfc solution's to round-off).
+    ``transfer_m_per_s`` is a convective surface's k_eff (its Biot number then follows from
+    the slab's half-thickness); ``real_thickness_m`` the part's own, for the validity check."""
+
+    transfer_m_per_s: float | None = None
+    real_thickness_m: float | None = None
+
+
+@dataclass(frozen=True)
 class Criterion:
     """When the body counts as settled. ``measure`` names a function in service.measures."""
 
@@ -345,6 +357,7 @@ class Case:
     # an Arrhenius diffusivity following a temperature schedule: the engines then work at
     # the medium's diffusivity (D at the hottest temperature) in reference time
     schedule: Schedule | None = None
+    semi_infinite: SemiInfinite | None = None
 
     @property
     def layers(self) -> tuple[Layer, ...]:
@@ -374,11 +387,27 @@ class Case:
 
     @property
     def characteristic_length_m(self) -> float:
+        if self.semi_infinite is not None:
+            return self._depth_scale
         return characteristic_length(self.body, self.faces)[0]
 
     @property
     def length_convention(self) -> str:
+        if self.semi_infinite is not None:
+            return "depth"
         return characteristic_length(self.body, self.faces)[1]
+
+    @property
+    def _depth_scale(self) -> float:
+        """A semi-infinite body's length: the depth of the criterion's point, or at the
+        surface the film's length D/k (a held surface: the point's own scale is zero, so any
+        positive length will do for the Fourier number, which is then zero)."""
+        assert self.semi_infinite is not None
+        depth = self.criterion.position_m if self.criterion is not None else None
+        if depth:
+            return depth
+        transfer = self.semi_infinite.transfer_m_per_s
+        return self.medium.diffusivity_m2_per_s / transfer if transfer else 1.0
 
     @property
     def exchange_area(self) -> float:
