@@ -91,6 +91,8 @@ class Facts:
     mean_square_start: float
     mean_start: float
     diffusivity_m2_per_s: float
+    # the start's range max − min (in the potential)
+    start_range: float
     # the body's capacity ∫C r^m, what it holds at the start (∫C·φ0 r^m) and, with a bath,
     # the bath's starting deviation from the final state
     capacity: float
@@ -120,6 +122,7 @@ class Facts:
             mean_square_start=final.deviation_moment(start, 2) / weight,
             mean_start=mean,
             diffusivity_m2_per_s=case.medium.diffusivity_m2_per_s,
+            start_range=high - low,
             capacity=weight,
             amount_start=start.body_moment(case.body.metric),
             bath_start_deviation=(
@@ -389,6 +392,53 @@ class MaxDeviation(Measure):
 
     def truncation(self, tail: TailBound) -> float:
         return tail.sup / self.facts.max_abs_start
+
+
+class ResidualSegregation(Measure):
+    """(max c − min c)/(max c0 − min c0), the index of residual segregation, for a sealed body
+    (where the largest value only falls and the smallest only rises, so the index never
+    increases); on samples refined by a parabola at each end of the range, as the largest
+    deviation is. For a cosine pattern it is exp(−π²Dt/l²), l the half-wavelength."""
+
+    name = "residual_segregation"
+    is_monotone = True
+
+    def _range(self, samples: FloatArray) -> FloatArray:
+        positions = self.solution.sample_positions_m
+        rows = np.arange(samples.shape[0])
+        spread = []
+        for sign in (1.0, -1.0):
+            signed = sign * samples
+            top = signed.max(axis=1)[:, None]
+            best = np.argmax(signed >= top - np.abs(top) * (1.0 - _TIE), axis=1)
+            extreme = signed[rows, best]
+            if self.solution.refine_max:
+                extreme = np.maximum(extreme, _parabola_peak(positions, signed, best))
+            spread.append(extreme)
+        return np.asarray(spread[0] + spread[1])
+
+    def values(self, times_s: FloatArray) -> FloatArray:
+        solution = self.solution
+        samples = solution.weighted(np.asarray(times_s, dtype=float)) @ solution.sample_basis.T
+        return np.asarray(self._range(samples) / self._initial_range)
+
+    @cached_property
+    def _initial_range(self) -> float:
+        return self.facts.start_range
+
+    def extrapolable_at(self, time_s: float) -> bool:
+        """Like the largest deviation: while both ends of the range sit at the first or last
+        sample (the faces of a segregation cell), every grid places them alike."""
+        solution = self.solution
+        row = solution.sample_basis @ (solution.amplitudes * np.exp(-solution.rates_per_s * time_s))
+        last = row.size - 1
+        return {int(np.argmax(row)), int(np.argmin(row))} <= {0, last}
+
+    def initial_value(self) -> float:
+        return 1.0
+
+    def truncation(self, tail: TailBound) -> float:
+        return 2.0 * tail.sup / self._initial_range
 
 
 def _vertex(x0: float, x1: float, x2: float, y0: float, y1: float, y2: float) -> float:
@@ -836,6 +886,7 @@ MEASURES: dict[str, type[Measure]] = {
         BathValue,
         RemainingFraction,
         Reaches,
+        ResidualSegregation,
     )
 }
 
@@ -859,6 +910,12 @@ def build_measure(
         return _bath_value(case, facts, solution, criterion)
     if name == "reaches":
         return _reaches(case, facts, solution, criterion)
+    if name == "residual_segregation" and (case.faces.exchanging or not facts.start_range > 0):
+        raise InvalidInput(
+            "residual_segregation is for a sealed body whose start varies (a segregation "
+            "cell): there the range only narrows",
+            "/criterion/measure",
+        )
     if name == "remaining_fraction":
         assert criterion.fraction is not None
         return _remaining_fraction(facts, solution, criterion.fraction)
@@ -1014,7 +1071,7 @@ def defined_measures(
             continue
         elif name == "mean_square_deviation" and with_bath:
             out[name] = BathMeanSquare(facts, solution, 1.0)
-        elif name == "reaches":
+        elif name in ("reaches", "residual_segregation"):
             continue  # only as the criterion's own measure
         elif name == "bath_value":
             if with_bath and facts.bath_start_deviation:

@@ -218,6 +218,12 @@ def _assumptions(case: Case, facts: Facts) -> list[str]:
             f"Partition equilibrium at the surface with K = {case.medium.partition:.6g}: the "
             "body ends at K times the surroundings' value."
         )
+    if case.start.representation_error > 0:
+        assumptions.append(
+            "The start's curve is drawn with straight chords, within "
+            f"{case.start.representation_error:.2g} of its amplitude (included in the error "
+            "estimate)."
+        )
     assumptions.append(describe_final_state(case))
     return assumptions
 
@@ -449,7 +455,11 @@ class Solver:
             measures=values,
             engine=run.solution.engine,
             resolution=run.solution.resolution,
-            estimated_relative_error=run.estimated_relative_error,
+            # a start drawn by chords moves the slowest mode's amplitude by at most their sag,
+            # and the time by at most that over λ1·t (≥ 1 for tolerances below 1/e)
+            estimated_relative_error=max(
+                run.estimated_relative_error, case.start.representation_error
+            ),
             biot=biot,
             lumped=lumped_answer(case, facts),
             schedule=schedule,

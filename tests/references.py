@@ -18,6 +18,7 @@ __all__ = [
     "CRANK_F_AT_FOURIER_0_1",
     "CRANK_HALF_TIMES",
     "ERF_HALF",
+    "HOMOGENIZATION_SOURCE",
     "NO_FLUX_FIRST_WAVENUMBERS",
     "ONE_TERM",
     "ONE_TERM_SOURCE",
@@ -180,3 +181,8 @@ CALLISTER_CARBURIZING: dict[str, Any] = {
 }
 # erf(0.5) as printed in Callister's error-function table (Table 5.1; seen in a reproduction).
 ERF_HALF = Reference(0.5205, 4, "Callister, error-function table", "seen")
+
+# Homogenization of a sinusoidal segregation profile: the amplitude ratio
+# δ = exp(−π²·D·t/l²), l the half-wavelength (Porter & Easterling, Phase Transformations in
+# Metals and Alloys, homogenization section; memory).
+HOMOGENIZATION_SOURCE = "Porter & Easterling, Phase Transformations in Metals and Alloys (memory)"

@@ -10,6 +10,8 @@ import math
 from collections.abc import Callable
 from dataclasses import dataclass, field, replace
 
+import numpy as np
+
 from service.errors import InvalidInput, UnitError
 from service.models import requests as rq
 from service.physics import (
@@ -61,6 +63,8 @@ BOLTZMANN = 1.380649e-23
 # The length a semi-infinite body's film Biot number is computed on before the solver
 # sizes its slab (it only carries k_eff = Bi·D/length from request to solver).
 SEMI_INFINITE_REFERENCE_M = 1e-3
+# Chords a periodic start's cosine is drawn with (largest sag 1.2e-6 of the amplitude).
+PERIODIC_CHORDS = 1024
 # Heat inputs: wider than any real material (aerogels to diamond, gases to metals).
 CONDUCTIVITY_RANGE = (1e-6, 1e5)
 DENSITY_RANGE = (1e-3, 1e5)
@@ -115,6 +119,8 @@ class _Translator:
         self.units = units
         self.positions: dict[str, float] = {}
         self.semi_infinite = False
+        # half the wavelength of a periodic start: the cell a segregation pattern is solved on
+        self.periodic_cell_m: float | None = None
 
     def length(self, raw: float | str, pointer: str) -> float:
         value = self.units.to_si(raw, "length", pointer)
@@ -133,9 +139,14 @@ class _Translator:
         if isinstance(request, rq.SlabBody):
             if request.thickness is not None:
                 extent = self.length(request.thickness, "/body/thickness")
-            else:
-                assert request.half_thickness is not None
+            elif request.half_thickness is not None:
                 extent = 2 * self.length(request.half_thickness, "/body/half_thickness")
+            elif self.periodic_cell_m is not None:
+                extent = self.periodic_cell_m
+            else:
+                raise InvalidInput(
+                    "give the slab's 'thickness', 'half_thickness' or 'layers'", "/body"
+                )
         elif request.radius is not None:
             extent = self.length(request.radius, "/body/radius")
         else:
@@ -406,8 +417,25 @@ class _Translator:
             )
         return 0.0
 
-    def start(self, request: rq.UniformStart | rq.BandStart | rq.ProfileStart, body: Body) -> Start:
+    def start(
+        self,
+        request: rq.UniformStart | rq.BandStart | rq.ProfileStart | rq.PeriodicStart,
+        body: Body,
+    ) -> Start:
         extent, inner = body.extent_m, body.inner_m
+        if isinstance(request, rq.PeriodicStart):
+            # mean + amplitude·cos(πx/cell) by chords: their largest sag is
+            # amplitude·(1 − cos(π/(2N))) ≈ 1.2e-6 of the amplitude for N = 1024
+            x = np.linspace(0.0, extent, PERIODIC_CHORDS + 1)
+            wave = request.mean + request.amplitude * np.cos(np.pi * x / extent)
+            chords = Start.from_pieces(
+                [
+                    (float(x[i]), float(x[i + 1]), float(wave[i]), float(wave[i + 1]))
+                    for i in range(PERIODIC_CHORDS)
+                ]
+            )
+            sag = 1.0 - math.cos(math.pi / (2 * PERIODIC_CHORDS))
+            return replace(chords, representation_error=sag)
         if isinstance(request, rq.UniformStart):
             return Start.uniform(extent, request.value, inner)
         if isinstance(request, rq.BandStart):
@@ -671,6 +699,8 @@ class _Translator:
         if isinstance(request, rq.ReachesCriterion):
             position = self.position(request.position, body, "/criterion/position")
             return Criterion("reaches", position_m=position, value=request.value)
+        if isinstance(request, rq.ResidualSegregationCriterion):
+            return Criterion("residual_segregation", tolerance=request.tolerance)
         if isinstance(request, rq.BathValueCriterion):
             return Criterion(
                 "bath_value",
@@ -683,6 +713,7 @@ class _Translator:
 def to_case(request: rq.CaseRequest, units: Units) -> Translation:
     """The physics case a request describes."""
     translator = _Translator(units)
+    translator.periodic_cell_m = _periodic_cell(translator, request)
     body = translator.body(request.body)
     if (request.medium is None) == (not body.layers):
         raise InvalidInput(
@@ -837,3 +868,27 @@ def _semi_infinite(request: rq.CaseRequest, translator: _Translator, case: Case)
     if request.body.thickness is not None:
         thickness = translator.length(request.body.thickness, "/body/thickness")
     return SemiInfinite(transfer, thickness)
+
+
+def _periodic_cell(translator: _Translator, request: rq.CaseRequest) -> float | None:
+    """Half the wavelength of a periodic start, after checking that the body is the sealed
+    slab cell it implies."""
+    initial = request.initial
+    if not isinstance(initial, rq.PeriodicStart):
+        return None
+    body = request.body
+    if not isinstance(body, rq.SlabBody) or any(
+        v is not None for v in (body.thickness, body.half_thickness, body.layers)
+    ):
+        raise InvalidInput(
+            "a periodic start is solved on its half-wavelength cell: give the body as "
+            "{'shape': 'slab'} with no size (the wavelength sets it)",
+            "/body",
+        )
+    if request.surface is None or not isinstance(request.surface, rq.NoFluxSurface):
+        raise InvalidInput(
+            "the faces of a periodic cell are planes of symmetry: the surface is 'no_flux'",
+            "/surface" if request.surface is not None else "/faces",
+        )
+    wavelength = translator.length(initial.wavelength, "/initial/wavelength")
+    return wavelength / 2

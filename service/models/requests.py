@@ -207,8 +207,8 @@ class SlabBody(_Strict):
     @model_validator(mode="after")
     def _one_length(self) -> SlabBody:
         given = [self.thickness, self.half_thickness, self.layers]
-        if sum(v is not None for v in given) != 1:
-            raise ValueError("give exactly one of 'thickness', 'half_thickness' or 'layers'")
+        if sum(v is not None for v in given) > 1:
+            raise ValueError("give only one of 'thickness', 'half_thickness' or 'layers'")
         return self
 
 
@@ -284,7 +284,21 @@ class ProfileStart(_Strict):
         return self
 
 
-Initial = Annotated[UniformStart | BandStart | ProfileStart, Field(discriminator="kind")]
+class PeriodicStart(_Strict):
+    """A periodic segregation pattern c = mean + amplitude·cos(2πx/wavelength), the
+    wavelength being the segregation spacing (a dendrite arm spacing, not the casting's
+    size). The body is then the half-wavelength cell between a maximum and the next minimum,
+    sealed at both faces by symmetry: give the slab no size."""
+
+    kind: Literal["periodic"]
+    wavelength: Quantity = Field(description="The segregation spacing (m, or 'number unit').")
+    amplitude: Value = Field(description="Half the range, (max − min)/2.")
+    mean: Value
+
+
+Initial = Annotated[
+    UniformStart | BandStart | ProfileStart | PeriodicStart, Field(discriminator="kind")
+]
 
 
 class NoFluxSurface(_Strict):
@@ -438,6 +452,13 @@ class ReachesCriterion(_Strict):
     value: Value
 
 
+class ResidualSegregationCriterion(_Strict):
+    """(max − min)/(max0 − min0) ≤ tolerance: the index of residual segregation."""
+
+    measure: Literal["residual_segregation"]
+    tolerance: Tolerance
+
+
 class RemainingFractionCriterion(_Strict):
     """M(t)/M(0) ≤ fraction: the share of its starting amount the body still holds (amounts
     counted from zero of the value units)."""
@@ -455,7 +476,8 @@ Criterion = Annotated[
     | ValueAtCriterion
     | BathValueCriterion
     | RemainingFractionCriterion
-    | ReachesCriterion,
+    | ReachesCriterion
+    | ResidualSegregationCriterion,
     Field(discriminator="measure"),
 ]
 

@@ -136,6 +136,9 @@ class Start:
     # Capacity of each segment's material (a layered body's K or ρ·c_p; 1 when homogeneous):
     # amounts and means over the body are weighted by it.
     capacity: FloatArray | None = None
+    # When the pieces stand for a curve (a periodic pattern drawn by chords): their largest
+    # distance from it, relative to its amplitude; answers carry it in their error estimate.
+    representation_error: float = 0.0
 
     @classmethod
     def uniform(cls, extent_m: float, value: float, inner_m: float = 0.0) -> Start:
