@@ -33,6 +33,7 @@ from service.settling import find_settling_time
 __all__ = [
     "CAUTIONS",
     "PROFILE_FORMS",
+    "REACTION_FORMS",
     "WARNING_CODES",
     "HistoryAnswer",
     "SettlingAnswer",
@@ -133,6 +134,8 @@ class SettlingAnswer:
     lumped: LumpedAnswer | None = None
     met_after_exchange: int | None = None
     schedule: ScheduleAnswer | None = None
+    # first-order reaction: (Thiele modulus Lc·√(k/D), effectiveness factor ⟨c_f⟩/c_surface)
+    reaction: tuple[float, float] | None = None
     warnings: list[tuple[str, str]] = field(default_factory=list)
     assumptions: list[str] = field(default_factory=list)
     cautions: list[str] = field(default_factory=list)
@@ -230,6 +233,11 @@ def _assumptions(case: Case, facts: Facts) -> list[str]:
 
 # The steady profiles' forms, per metric exponent (x and r in metres).
 PROFILE_FORMS = {0: "a + b·x", 1: "a + b·ln(r / 1 m)", 2: "a − b/r"}
+REACTION_FORMS = {
+    0: "scale·cosh(modulus·(x − centre))",
+    1: "scale·I0(modulus·r)",
+    2: "scale·sinh(modulus·r)/(modulus·r)",
+}
 
 
 def describe_final_state(case: Case) -> str:
@@ -238,6 +246,11 @@ def describe_final_state(case: Case) -> str:
     if state.is_uniform:
         return f"The final state is uniform at {state.value:.6g}."
     body = case.body
+    if state.reaction is not None:
+        return (
+            "The final state is the steady reaction–diffusion profile "
+            f"c = {REACTION_FORMS[body.metric]}; the measures compare the body with it."
+        )
     ends = state.values(np.array([body.inner_m, body.extent_m]))
     return (
         f"The final state is not uniform: the steady profile c = {PROFILE_FORMS[body.metric]} "
@@ -261,6 +274,18 @@ def _as_deep_slab(case: Case, half_m: float) -> Case:
         faces=Faces.alike(body, surface),
         semi_infinite=None,
     )
+
+
+def _reaction_figures(case: Case) -> tuple[float, float] | None:
+    """The Thiele modulus on Lc and the effectiveness factor: the body's mean final value over
+    the value at its surface's far side (the held value, or K·ambient through a film), which
+    is the reaction rate achieved over the rate if all of it were at that value."""
+    rate = case.medium.reaction_per_s
+    if rate <= 0:
+        return None
+    modulus = case.characteristic_length_m * math.sqrt(rate / case.medium.diffusivity_m2_per_s)
+    surface = case.faces.outer.value
+    return modulus, (case.final_value / surface if surface != 0 else math.nan)
 
 
 def final_value_of(case: Case) -> float | None:
@@ -463,6 +488,7 @@ class Solver:
             biot=biot,
             lumped=lumped_answer(case, facts),
             schedule=schedule,
+            reaction=_reaction_figures(case),
             met_after_exchange=(
                 sum(1 for t in case.bath.exchanges_s if t <= time_s)
                 if case.bath is not None and case.bath.exchanges_s

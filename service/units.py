@@ -52,6 +52,7 @@ DIMENSIONS: dict[str, Dimension] = {
     "diffusivity": Dimension("[length]**2/[time]", "a diffusivity (length²/time)", "m^2/s"),
     "velocity": Dimension("[length]/[time]", "a transfer coefficient (length/time)", "m/s"),
     "area": Dimension("[length]**2", "an area", "m^2"),
+    "rate": Dimension("1/[time]", "a rate constant", "1/s"),
     "temperature": Dimension("[temperature]", "a temperature", "K"),
     "molar_energy": Dimension(
         "[mass]*[length]**2/[time]**2/[substance]", "an energy per mole", "J/mol"

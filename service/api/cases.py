@@ -52,6 +52,8 @@ EXCHANGE_LIMIT_S = 1e11
 # A bath's volume (m³) and a slab's face area (m²).
 VOLUME_RANGE = (1e-24, 1e9)
 AREA_RANGE = (1e-18, 1e8)
+# First-order rate constants (1/s).
+RATE_RANGE = (0.0, 1e9)
 # Temperatures (K), durations (s), D0 (m²/s) and activation temperatures Q/R (K).
 TEMPERATURE_RANGE_K = (1e-3, 1e5)
 DURATION_RANGE_S = (1e-9, 1e11)
@@ -270,7 +272,12 @@ class _Translator:
                 at,
             )
         partition = request.partition if request.partition is not None else 1.0
-        return Medium(diffusivity, conductivity, partition)
+        reaction = 0.0
+        if request.reaction_rate is not None:
+            reaction = self.quantity(
+                request.reaction_rate, "rate", RATE_RANGE, at + "/reaction_rate"
+            )
+        return Medium(diffusivity, conductivity, partition, reaction)
 
     def temperature(self, raw: float | str, pointer: str) -> float:
         """An absolute temperature in kelvin; it must carry its unit (900 could be °C or K)."""
@@ -743,6 +750,8 @@ def to_case(request: rq.CaseRequest, units: Units) -> Translation:
         case = replace(case, schedule=schedule)
     if translator.semi_infinite:
         case = replace(case, semi_infinite=_semi_infinite(request, translator, case))
+    if case.medium.reaction_per_s > 0:
+        _check_reacting(request, case)
     return Translation(
         case=case, positions_m=translator.positions, faces_given=request.faces is not None
     )
@@ -892,3 +901,22 @@ def _periodic_cell(translator: _Translator, request: rq.CaseRequest) -> float | 
         )
     wavelength = translator.length(initial.wavelength, "/initial/wavelength")
     return wavelength / 2
+
+
+def _check_reacting(request: rq.CaseRequest, case: Case) -> None:
+    """First-order reaction is solved for a homogeneous solid cylinder or sphere, or a slab,
+    with the same held or convective condition on every surface."""
+    reasons = [
+        (request.surface is None, "the same surface on every face", "/faces"),
+        (case.body.layers != () or case.body.inner_m > 0, "a solid, homogeneous body", "/body"),
+        (case.bath is not None or case.schedule is not None, "unchanging surroundings", "/bath"),
+        (case.semi_infinite is not None, "a finite body", "/body"),
+        (
+            case.faces.outer.kind not in (SurfaceKind.FIXED_VALUE, SurfaceKind.CONVECTIVE),
+            "a held or convective surface (a sealed body would only decay to zero)",
+            "/surface",
+        ),
+    ]
+    for failed, needs, pointer in reasons:
+        if failed:
+            raise InvalidInput(f"a reacting medium is solved here for {needs}", pointer)

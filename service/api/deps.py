@@ -10,7 +10,7 @@ from pydantic import BaseModel
 
 from service.models.responses import FinalStateOut, ProfilePieceOut
 from service.physics import Case, Geometry, SurfaceKind
-from service.solver import PROFILE_FORMS, Solver
+from service.solver import PROFILE_FORMS, REACTION_FORMS, Solver
 from service.units import Units
 
 __all__ = ["SolverDep", "UnitsDep", "biot_by_face", "final_state_out", "json_response"]
@@ -56,6 +56,14 @@ def final_state_out(case: Case) -> FinalStateOut:
         )
         return FinalStateOut(kind="uniform", value=state.value, layer_values=layer_values)
     ends = state.values(np.array([case.body.inner_m, case.body.extent_m]))
+    if state.reaction is not None:
+        scale, modulus, centre = state.reaction
+        return FinalStateOut(
+            kind="reaction_profile",
+            profile=REACTION_FORMS[case.body.metric],
+            reaction_profile={"scale": scale, "modulus_per_m": modulus, "centre_m": centre},
+            end_values=[float(v) for v in ends],
+        )
     return FinalStateOut(
         kind="steady_profile",
         profile=PROFILE_FORMS[case.body.metric],

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import math
 import time
 
 from fastapi import APIRouter, Response
@@ -17,7 +18,7 @@ from service.api.deps import (
 )
 from service.api.problems import PROBLEM_RESPONSES
 from service.models import LumpedOut, Method, SettlingRequest, SettlingResponse, WarningOut
-from service.models.responses import ScheduleOut
+from service.models.responses import ReactionOut, ScheduleOut
 from service.solver import Solver, format_time
 
 __all__ = ["router"]
@@ -73,6 +74,14 @@ def _respond(translation: Translation, solver: Solver) -> Response:
             biot=answer.biot,
             biot_by_face=biot_by_face(case, translation.faces_given),
             met_after_exchange=answer.met_after_exchange,
+            reaction=(
+                ReactionOut(
+                    thiele_modulus=answer.reaction[0],
+                    effectiveness_factor=_finite_or_none(answer.reaction[1]),
+                )
+                if answer.reaction is not None
+                else None
+            ),
             schedule=(
                 ScheduleOut(
                     integrated_diffusivity_m2=answer.schedule.integrated_diffusivity_m2,
@@ -100,3 +109,7 @@ def _respond(translation: Translation, solver: Solver) -> Response:
         ),
         elapsed,
     )
+
+
+def _finite_or_none(value: float) -> float | None:
+    return value if math.isfinite(value) else None

@@ -295,6 +295,8 @@ class FiniteVolumeEngine:
         diagonal[1:] += conductance
         diagonal[-1] += outer
         diagonal[0] += inner
+        # first-order consumption: every cell loses k times what it holds
+        diagonal += case.medium.reaction_per_s * volumes
         if amounts is None:
             amounts = case.start.moments(m, faces[:-1], faces[1:])
         final_amounts = capacity * case.final_state.amounts(faces[:-1], faces[1:])

@@ -163,6 +163,11 @@ class SeriesEngine:
         """The expansions here are for solid cylinders and spheres and for slabs with the same
         condition on both faces; hollow bodies and slabs whose faces differ go to the
         finite-volume engine."""
+        if case.medium.reaction_per_s > 0:
+            raise NotApplicable(
+                "the series engine covers bodies without reaction; a reacting body is solved "
+                "by the finite_volume engine"
+            )
         if case.bath is not None:
             raise NotApplicable(
                 "the series engine covers bodies in unchanging surroundings; a finite bath is "

@@ -130,6 +130,11 @@ class Medium(_Strict):
     specific_heat: Quantity | None = Field(
         None, description="Specific heat capacity c_p (J/(kg*K), or 'number unit')."
     )
+    reaction_rate: Quantity | None = Field(
+        None,
+        description="First-order consumption or binding k (1/s, or 'number unit'): "
+        "∂c/∂t = D∇²c − k·c. The body then settles to the steady reaction–diffusion profile.",
+    )
     arrhenius: ArrheniusRequest | None = Field(
         None,
         description="A diffusivity that follows the temperature (with a top-level "

@@ -12,6 +12,7 @@ __all__ = [
     "Problem",
     "ProblemItem",
     "ProfilePieceOut",
+    "ReactionOut",
     "ScheduleOut",
     "SettlingResponse",
     "SnapshotOut",
@@ -59,6 +60,11 @@ class FinalStateOut(BaseModel):
         description="The steady profile's form: 'a + b·x' (slab, x in m), 'a + b·ln(r / 1 m)' "
         "(cylinder) or 'a − b/r' (sphere, r in m).",
     )
+    reaction_profile: dict[str, float] | None = Field(
+        None,
+        description="With a reaction: c_f = scale·h(modulus·(r − centre)), h = cosh (slab), "
+        "I0 (cylinder) or sinh(x)/x (sphere); keys scale, modulus_per_m, centre_m.",
+    )
     pieces: list[ProfilePieceOut] | None = Field(
         None, description="The profile's coefficients on each layer (one piece if homogeneous)."
     )
@@ -83,6 +89,16 @@ class ScheduleOut(BaseModel):
     extra_soak_s: float = Field(
         description="When the schedule ends first: how much longer its soak (hottest hold) "
         "would need; 0 otherwise."
+    )
+
+
+class ReactionOut(BaseModel):
+    """First-order consumption or binding: how far it lets the solute in."""
+
+    thiele_modulus: float = Field(description="Lc·√(k/D), on the echoed Lc.")
+    effectiveness_factor: float | None = Field(
+        description="The body's mean final value over the surface-side value: the reaction "
+        "rate achieved over the rate with all of the body at that value."
     )
 
 
@@ -136,6 +152,9 @@ class SettlingResponse(BaseModel):
         None,
         description="Each convective face's Biot number on Lc, by face name, when 'faces' was "
         "given.",
+    )
+    reaction: ReactionOut | None = Field(
+        None, description="With a reaction rate: the Thiele modulus and effectiveness factor."
     )
     schedule: ScheduleOut | None = Field(
         None, description="With a temperature schedule: the reduced time and where it is met."

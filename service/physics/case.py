@@ -10,6 +10,7 @@ from functools import cached_property
 
 import numpy as np
 from numpy.typing import NDArray
+from scipy import special
 
 from service.physics.schedule import Schedule
 
@@ -121,6 +122,8 @@ class Medium:
     diffusivity_m2_per_s: float
     conductivity_w_per_m_k: float | None = None
     partition: float = 1.0
+    # first-order consumption or binding: ∂c/∂t = D∇²c − k·c
+    reaction_per_s: float = 0.0
 
 
 @dataclass(frozen=True)
@@ -432,8 +435,17 @@ class Case:
     @cached_property
     def final_state(self) -> FinalState:
         """The state the body settles to: uniform, or a steady profile between two ends."""
+        reaction = None
+        if self.medium.reaction_per_s > 0:
+            reaction = (self.medium.diffusivity_m2_per_s, self.medium.reaction_per_s)
         return final_state(
-            self.body, self.faces, self.layers, self.start, self.characteristic_length_m, self.bath
+            self.body,
+            self.faces,
+            self.layers,
+            self.start,
+            self.characteristic_length_m,
+            self.bath,
+            reaction,
         )
 
     @property
@@ -481,6 +493,33 @@ _GL16_X = 0.5 * (_GL16_X + 1.0)
 _GL16_W = 0.5 * _GL16_W
 _PIECE_RATIO = 1.25
 
+
+# The steady reaction–diffusion profile's shape h(x) and ∫ h(m·r) r^m dr as a function of
+# (m, r), per metric exponent: cosh (slab, about its centre), sinh(x)/x (sphere), I0 (cylinder).
+def _sinhc(x: FloatArray) -> FloatArray:
+    x = np.asarray(x, dtype=float)
+    safe = np.where(np.abs(x) < 1e-8, 1.0, x)
+    return np.asarray(np.where(np.abs(x) < 1e-8, 1.0 + x * x / 6, np.sinh(safe) / safe))
+
+
+def _sinhc_slope(x: float) -> float:
+    return (x * math.cosh(x) - math.sinh(x)) / (x * x) if abs(x) > 1e-4 else x / 3
+
+
+_REACTING: dict[int, tuple[Callable[..., FloatArray], Callable[..., FloatArray]]] = {
+    0: (np.cosh, lambda m, r: np.sinh(m * r) / m),
+    1: (special.i0, lambda m, r: r * special.i1(m * r) / m),
+    2: (_sinhc, lambda m, r: (r * np.cosh(m * r) / m - np.sinh(m * r) / m**2) / m),
+}
+# h′ at the surface, per metric exponent
+_REACTING_SLOPE: dict[int, Callable[[float], float]] = {
+    0: math.sinh,
+    1: lambda x: float(special.i1(x)),
+    2: _sinhc_slope,
+}
+# Samples per start segment when the deviation from a reaction profile is maximised.
+_REACTION_SAMPLES = 257
+
 # g(r) and its antiderivatives against r^m, per metric exponent
 _G: dict[int, Callable[[FloatArray], FloatArray]] = {
     0: lambda r: r,
@@ -505,6 +544,9 @@ class FinalState:
     upper: tuple[float, ...]
     a: tuple[float, ...]
     b: tuple[float, ...]
+    # with first-order reaction, the steady profile e·h(m·(r − centre)) instead, h = cosh,
+    # sinh(x)/x or I0 by shape and m = √(k/D): (e, m, centre)
+    reaction: tuple[float, float, float] | None = None
 
     @classmethod
     def uniform(cls, metric: int, value: float, inner_m: float, outer_m: float) -> FinalState:
@@ -512,7 +554,7 @@ class FinalState:
 
     @property
     def is_uniform(self) -> bool:
-        return not any(self.b) and len(set(self.a)) == 1
+        return self.reaction is None and not any(self.b) and len(set(self.a)) == 1
 
     @property
     def value(self) -> float:
@@ -527,6 +569,9 @@ class FinalState:
         r = np.asarray(positions_m, dtype=float)
         if self.is_uniform:
             return np.full(r.shape, self.value)
+        if self.reaction is not None:
+            scale, modulus, centre = self.reaction
+            return np.asarray(scale * _REACTING[self.metric][0](modulus * (r - centre)))
         piece = self._piece(r)
         a, b = np.asarray(self.a)[piece], np.asarray(self.b)[piece]
         return np.asarray(a + b * _G[self.metric](r), dtype=float)
@@ -534,6 +579,12 @@ class FinalState:
     def amounts(self, lower_m: FloatArray, upper_m: FloatArray) -> FloatArray:
         """∫ c_f r^m dr over each [lower, upper], summed over the pieces it spans."""
         m = self.metric
+        if self.reaction is not None:
+            scale, modulus, centre = self.reaction
+            moment = _REACTING[m][1]
+            upper_m, lower_m = np.asarray(upper_m, dtype=float), np.asarray(lower_m, dtype=float)
+            span = moment(modulus, upper_m - centre) - moment(modulus, lower_m - centre)
+            return np.asarray(scale * span, dtype=float)
         lower = np.asarray(lower_m, dtype=float)[:, None]
         upper = np.asarray(upper_m, dtype=float)[:, None]
         low = np.maximum(lower, np.asarray(self.lower)[None, :])
@@ -559,6 +610,13 @@ class FinalState:
         (a start is split at every interface, so each segment lies in one piece)."""
         if self.is_uniform:
             return start.max_abs_deviation(self.value)
+        if self.reaction is not None:
+            # no closed form for where a line meets cosh or I0 in slope: dense samples of each
+            # segment (the profile is smooth, the start linear on it)
+            fractions = np.linspace(0.0, 1.0, _REACTION_SAMPLES)
+            x = start.x0[:, None] + (start.x1 - start.x0)[:, None] * fractions[None, :]
+            line = start.v0[:, None] + (start.v1 - start.v0)[:, None] * fractions[None, :]
+            return float(np.max(np.abs(line - self.values(x))))
         middle = 0.5 * (start.x0 + start.x1)
         piece = self._piece(middle)
         a, b = np.asarray(self.a)[piece], np.asarray(self.b)[piece]
@@ -590,10 +648,16 @@ class FinalState:
         piece per segment for a slab (the integrand is a polynomial there), pieces of radius
         ratio at most 1.25 otherwise."""
         edges, capacity = [], []
+        reacting = self.reaction is not None
         for low, high, weight in zip(
             start.x0.tolist(), start.x1.tolist(), start.weights.tolist(), strict=True
         ):
-            if self.metric == 0:
+            if reacting:
+                # pieces over which the profile changes by at most e^(1/2)
+                assert self.reaction is not None
+                count = max(1, math.ceil(2.0 * self.reaction[1] * (high - low)))
+                cut = np.linspace(low, high, count + 1)
+            elif self.metric == 0:
                 cut = np.array([low, high])
             else:
                 count = max(1, math.ceil(math.log(high / low) / math.log(_PIECE_RATIO)))
@@ -614,6 +678,7 @@ def final_state(
     start: Start,
     length_m: float,
     bath: Bath | None = None,
+    reaction: tuple[float, float] | None = None,
 ) -> FinalState:
     """The state the body settles to (see the notes above); ``length_m`` is the case's Lc, on
     which the Biot numbers are given.
@@ -626,6 +691,8 @@ def final_state(
     m = body.metric
     exchanging = faces.exchanging
     inner, outer = body.inner_m, body.extent_m
+    if reaction is not None:
+        return _reaction_state(body, faces, reaction, length_m)
     if bath is not None or not exchanging:
         # the body (and its bath) share what they hold
         capacity = sum(
@@ -668,6 +735,32 @@ def final_state(
         )
     uppers = tuple(layer.outer_m for layer in layers)
     return FinalState(m, tuple(lowers), uppers, tuple(a), tuple(b))
+
+
+def _reaction_state(
+    body: Body, faces: Faces, reaction: tuple[float, float], length_m: float
+) -> FinalState:
+    """The steady profile of D∇²c = k·c with the same held or convective condition on every
+    surface of a solid body (or both faces of a slab): e·h(m·(r − centre)), m = √(k/D),
+    e from the surface condition (h′ the derivative of h)."""
+    diffusivity, rate = reaction
+    modulus = math.sqrt(rate / diffusivity)
+    m = body.metric
+    centre = body.extent_m / 2 if m == 0 else 0.0
+    reach = body.extent_m - centre  # surface's distance from the centre
+    shape = _REACTING[m][0]
+    x = modulus * reach
+    surface_value = float(shape(np.array(x)))
+    slope = _REACTING_SLOPE[m](x)
+    end = faces.outer
+    if end.kind is SurfaceKind.FIXED_VALUE:
+        scale = end.value / surface_value
+    else:
+        film = end.biot / length_m  # k_f/D
+        scale = film * end.value / (modulus * slope + film * surface_value)
+    return FinalState(
+        m, (body.inner_m,), (body.extent_m,), (0.0,), (0.0,), (scale, modulus, centre)
+    )
 
 
 def _lowers(body: Body, layers: tuple[Layer, ...]) -> list[float]:
