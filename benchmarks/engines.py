@@ -32,6 +32,7 @@ from scipy import integrate, sparse
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
 from service.physics import (
+    Arrhenius,
     Bath,
     Body,
     Case,
@@ -40,6 +41,8 @@ from service.physics import (
     Geometry,
     Layer,
     Medium,
+    Schedule,
+    ScheduleSegment,
     Start,
     Surface,
     SurfaceKind,
@@ -344,6 +347,139 @@ def bath_table(solver: Solver) -> None:
             )
 
 
+def processes_table(solver: Solver) -> None:
+    """Processes in time: mixclock's query against BDF method of lines on the same case
+    (uniform grid of 200 cells, banded sparsity, terminal event, rtol 1e-8). References:
+    mixclock at accuracy 1e-9 (the carburizing one is also the erf formula's)."""
+    print("\n## Processes in time (ms per query; error against the reference)")
+    print(f"{'case':40s} {'mixclock':>10s} {'rel.error':>10s} {'BDF':>10s} {'rel.error':>10s}")
+    law = Arrhenius(2.0e-5, 250e3 / 8.314462618)
+    schedule = Schedule(
+        law,
+        (
+            ScheduleSegment(293.15, 1423.15, 3 * 3600.0, False),
+            ScheduleSegment(1423.15, 1423.15, 6 * 3600.0, True),
+            ScheduleSegment(1423.15, 1173.15, 2 * 3600.0, False),
+        ),
+    )
+    cell = 30e-6
+    wave = Start.from_pieces(
+        [
+            (
+                cell * i / 256,
+                cell * (i + 1) / 256,
+                float(np.cos(np.pi * i / 256)),
+                float(np.cos(np.pi * (i + 1) / 256)),
+            )
+            for i in range(256)
+        ]
+    )
+    sealed = Body(Geometry.SLAB, cell)
+    cases = {
+        "ramp-and-soak schedule (segregation)": replace(
+            Case(
+                sealed,
+                Medium(schedule.reference_diffusivity),
+                wave,
+                Faces.alike(sealed, Surface(SurfaceKind.NO_FLUX)),
+                Criterion("residual_segregation", tolerance=0.1),
+                accuracy=ACCURACY,
+            ),
+            schedule=schedule,
+        ),
+        "reacting pellet (first order)": Case(
+            Body(Geometry.SPHERE, 2e-3),
+            Medium(5e-7, reaction_per_s=20.0),
+            Start.uniform(2e-3, 0.0),
+            Faces(None, Surface(SurfaceKind.CONVECTIVE, 1.0, 0.02 * 2e-3 / 5e-7)),
+            Criterion("mean_square_deviation", tolerance=1e-4),
+            accuracy=ACCURACY,
+        ),
+    }
+    for label, case in cases.items():
+        exact = solver.settle(replace(case, accuracy=1e-9)).time_s
+        ours = solver.settle(case)
+        ours_ms = _per_query_ms(solver, case)
+        found, bdf_ms = _process_lines(case, 200)
+        print(
+            f"{label:40s} {ours_ms:10.3f} {abs(ours.time_s / exact - 1):10.1e} "
+            f"{bdf_ms:10.3f} {abs(found / exact - 1):10.1e}"
+        )
+
+
+def _process_lines(case: Case, cells: int) -> tuple[float, float]:
+    """BDF method of lines on a uniform grid: D(T(t)) under a schedule, −k·c for a reaction,
+    the criterion as a terminal event. Returns its time and its median ms."""
+    assert case.criterion is not None
+    m = case.body.metric
+    faces = _uniform_faces(case, cells)
+    centres = 0.5 * (faces[1:] + faces[:-1])
+    volumes = (faces[1:] ** (m + 1) - faces[:-1] ** (m + 1)) / (m + 1)
+    g = faces[1:-1] ** m / np.diff(centres)
+    outer = case.faces.outer
+    half = faces[-1] - centres[-1]
+    boundary = 0.0
+    if outer.kind is SurfaceKind.CONVECTIVE:
+        boundary = 1.0 / (half + case.characteristic_length_m / outer.biot) * faces[-1] ** m
+    diagonal = np.r_[g, 0.0] + np.r_[0.0, g]
+    diagonal[-1] += boundary
+    unit = sparse.diags(
+        [g / volumes[1:], -diagonal / volumes, g / volumes[:-1]], [-1, 0, 1]
+    ).tocsr()
+    forcing = np.zeros(cells)
+    forcing[-1] = boundary * outer.value / volumes[-1]
+    rate = case.medium.reaction_per_s
+    schedule = case.schedule
+    law = schedule.law if schedule is not None else None
+    clock = np.cumsum([0.0, *(seg.duration_s for seg in schedule.segments)]) if schedule else None
+
+    def diffusivity(t: float) -> float:
+        if schedule is None or law is None or clock is None:
+            return case.medium.diffusivity_m2_per_s
+        i = min(int(np.searchsorted(clock, t, side="right")) - 1, len(schedule.segments) - 1)
+        seg = schedule.segments[max(i, 0)]
+        into = min(max(t - clock[max(i, 0)], 0.0), seg.duration_s)
+        return law.diffusivity(seg.start_k + (seg.end_k - seg.start_k) * into / seg.duration_s)
+
+    y0 = case.start.moments(m, faces[:-1], faces[1:]) / volumes
+    final = case.final_state.amounts(faces[:-1], faces[1:]) / volumes
+    criterion = case.criterion
+    if criterion.measure == "residual_segregation":
+        initial_range = float(np.ptp(y0))
+
+        def measure(y: np.ndarray) -> float:
+            return float(np.ptp(y)) / initial_range - (criterion.tolerance or 0.0)
+    else:
+        total = float(np.sum(volumes))
+        start = float(np.sum(volumes * (y0 - final) ** 2)) / total
+
+        def measure(y: np.ndarray) -> float:
+            mean_square = float(np.sum(volumes * (y - final) ** 2)) / total
+            return mean_square / start - (criterion.tolerance or 0.0)
+
+    def event(t: float, y: np.ndarray) -> float:
+        return measure(y)
+
+    event.terminal = True  # type: ignore[attr-defined]
+    sparsity = sparse.diags([1.0, 1.0, 1.0], [-1, 0, 1], shape=(cells, cells))
+
+    def run() -> float:
+        result = integrate.solve_ivp(
+            lambda t, y: diffusivity(t) * (unit @ y + forcing) - rate * y,
+            (0.0, 1e3 * case.diffusion_time_s + (clock[-1] if clock is not None else 0.0)),
+            y0,
+            method="BDF",
+            events=event,
+            rtol=1e-8,
+            atol=1e-11,
+            jac_sparsity=sparsity,
+        )
+        return float(result.t_events[0][0])
+
+    found = run()
+    return found, _median_ms(run, repeats=3)
+
+
 def _bath_lines(case: Case, cells: int, method: str, rtol: float) -> float:
     """The practitioner's version: each layer its own uniform grid, the bath one more node,
     restarted at each exchange."""
@@ -473,6 +609,7 @@ def main() -> None:
     baseline_table(solver)
     real_bodies_table(solver)
     bath_table(solver)
+    processes_table(solver)
 
 
 if __name__ == "__main__":
