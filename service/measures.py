@@ -46,6 +46,7 @@ from __future__ import annotations
 import bisect
 import math
 from abc import ABC, abstractmethod
+from collections.abc import Callable
 from dataclasses import dataclass, replace
 from functools import cached_property
 from typing import ClassVar
@@ -731,6 +732,78 @@ class Reaches(_SignedSum):
         """Whether the point ends past the value (then it is surely reached); otherwise only
         a transient swing can reach it, before the measure turns monotone."""
         return self._offset * self._span < 0
+
+
+class ProductMeasure(Measure):
+    """A finite body as a product of one-dimensional solutions: θ = Π θ_i with θ_i each
+    direction's deviation over its start. The centre value, the mean and the mean square all
+    separate (∫Πθ_i = Πθ̄_i); for a uniform start with these surfaces each factor falls
+    monotonically, and so does the product. ``kind`` picks the factor: 'centre', 'mean' or
+    'square'."""
+
+    is_monotone = True
+
+    def __init__(
+        self,
+        facts: Facts,
+        solutions: list[ModalSolution],
+        centres_m: list[float],
+        kind: str,
+        name: str,
+        level: float,
+    ) -> None:
+        super().__init__(facts, solutions[0], level)
+        self.name = name  # type: ignore[misc]
+        self.kind = kind
+        deviation = facts.max_abs_start
+        factor = _PRODUCT_FACTORS[kind]
+        self._factors = [
+            factor(solution, centre, deviation)
+            for solution, centre in zip(solutions, centres_m, strict=True)
+        ]
+        self.solutions = solutions
+
+    def values(self, times_s: FloatArray) -> FloatArray:
+        times = np.asarray(times_s, dtype=float)
+        product = np.ones(times.shape)
+        for rates, coefficients in self._factors:
+            product *= np.exp(-np.outer(times, rates)) @ coefficients
+        return np.asarray(np.abs(product))
+
+    def initial_value(self) -> float:
+        return 1.0
+
+    def truncation(self, tail: TailBound) -> float:
+        return 0.0
+
+    def guess_s(self) -> float:
+        rate = sum(float(rates[0]) for rates, _ in self._factors)
+        return max(math.log(max(1.0 / self.level, 1.0 + 1e-9)) / rate, 1e-300)
+
+
+def _centre_factor(
+    solution: ModalSolution, centre_m: float, deviation: float
+) -> tuple[FloatArray, FloatArray]:
+    basis = solution.basis_at(np.array([centre_m]))[0]
+    return solution.rates_per_s, solution.amplitudes * basis / deviation
+
+
+def _mean_factor(
+    solution: ModalSolution, centre_m: float, deviation: float
+) -> tuple[FloatArray, FloatArray]:
+    return solution.rates_per_s, solution.amplitudes * solution.mode_means / deviation
+
+
+def _square_factor(
+    solution: ModalSolution, centre_m: float, deviation: float
+) -> tuple[FloatArray, FloatArray]:
+    return 2 * solution.rates_per_s, solution.amplitudes**2 / deviation**2
+
+
+# (rates, coefficients) of one direction's factor, per kind of product measure
+_PRODUCT_FACTORS: dict[
+    str, Callable[[ModalSolution, float, float], tuple[FloatArray, FloatArray]]
+] = {"centre": _centre_factor, "mean": _mean_factor, "square": _square_factor}
 
 
 class _Exchanged(Measure):

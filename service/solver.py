@@ -15,6 +15,7 @@ from numpy.typing import NDArray
 from service.engines import Crossing, Engine, ModalSolution, SeriesEngine, make_engines
 from service.engines.common import (
     FOURIER_FLOOR,
+    ROOT_RTOL,
     Interval,
     exchange_intervals,
     interval_index,
@@ -24,6 +25,7 @@ from service.lumped import LUMPED_BIOT, LumpedAnswer, classical_biot, lumped_ans
 from service.measures import (
     Facts,
     Measure,
+    ProductMeasure,
     build_measure,
     defined_measures,
 )
@@ -365,7 +367,101 @@ class Solver:
         """The settling time of ``case`` under its criterion, with every measure at that time."""
         if case.semi_infinite is not None:
             return self._settle_semi_infinite(case)
+        if case.product is not None:
+            return self._settle_product(case)
         return self._settle(case)
+
+    def _settle_product(self, case: Case) -> SettlingAnswer:
+        """A bar, block or short cylinder: each direction's exact series, their product
+        searched (it falls monotonically), the measures that separate reported."""
+        product, criterion = case.product, case.criterion
+        assert product is not None and criterion is not None
+        facts = Facts.of(case)
+        series = self.engines["series"]
+        floor_s = FOURIER_FLOOR * min(d.diffusion_time_s for d in product.directions)
+        solutions = [series.solution(d, floor_s) for d in product.directions]
+        centres = [
+            d.body.extent_m / 2 if d.body.geometry is Geometry.SLAB else 0.0
+            for d in product.directions
+        ]
+        deviation = facts.max_abs_start
+        kinds = {
+            "value_at": "centre",
+            "reaches": "centre",
+            "max_deviation": "centre",
+            "mean_square_deviation": "square",
+            "fraction_equilibrated": "mean",
+        }
+        levels = {
+            "value_at": (
+                criterion.absolute_tolerance / deviation
+                if criterion.absolute_tolerance is not None
+                else criterion.tolerance
+            ),
+            "max_deviation": criterion.tolerance,
+            "mean_square_deviation": criterion.tolerance,
+            "fraction_equilibrated": 1.0 - (criterion.fraction or 0.0),
+        }
+        if criterion.measure == "reaches":
+            assert criterion.value is not None
+            target = (criterion.value - facts.final_value) / (
+                float(case.start.v0[0]) - facts.final_value
+            )
+            if not 0.0 < target < 1.0:
+                raise InvalidInput(
+                    "the centre never reaches that value: it moves from the start toward the "
+                    "surroundings' value and stops there",
+                    "/criterion/value",
+                )
+            levels["reaches"] = target
+
+        def measure(name: str, level: float) -> ProductMeasure:
+            return ProductMeasure(facts, solutions, centres, kinds[name], name, level)
+
+        level = levels[criterion.measure]
+        assert level is not None
+        compared = measure(criterion.measure, level)
+        crossing = find_settling_time(compared, floor_s)
+        time_s = crossing.time_s
+        reported = {
+            name: _finite(float(measure(name, 1.0).values(np.array([time_s]))[0]))
+            for name in ("max_deviation", "mean_square_deviation", "fraction_equilibrated")
+        }
+        reported["fraction_equilibrated"] = _finite(
+            1.0 - (reported["fraction_equilibrated"] or 0.0)
+        )
+        if criterion.measure in ("value_at", "reaches"):
+            reported[criterion.measure] = _finite(float(compared.value(time_s)))
+        rates = [float(sol.rates_per_s[0]) for sol in solutions]
+        excited = [sol.slowest_excited_rate_per_s for sol in solutions]
+        # each series is truncated far below the accuracy (see SeriesEngine.solution); the
+        # root-finder's tolerance dominates what is left
+        error = max(ROOT_RTOL, max(case.accuracy * 1e-4, 1e-12))
+        return SettlingAnswer(
+            time_s=time_s,
+            definition="first_crossing" if criterion.measure == "reaches" else "monotone",
+            fourier_number=time_s / case.diffusion_time_s,
+            final_value=facts.final_value,
+            slowest_rate_per_s=sum(rates),
+            slowest_excited_rate_per_s=sum(excited),
+            measures=reported,
+            engine="series",
+            resolution=sum(sol.resolution for sol in solutions),
+            estimated_relative_error=error,
+            biot=None,
+            warnings=[],
+            assumptions=[
+                _HOMOGENEOUS,
+                *_ASSUMPTIONS,
+                _STEADY_SURROUNDINGS,
+                "The body is solved as the product of one-dimensional solutions ("
+                + ", ".join(product.names)
+                + "), exact for a uniform start and the same surface all round; Lc and the "
+                "Fourier number are those of the first direction.",
+                describe_final_state(case),
+            ],
+            cautions=list(CAUTIONS),
+        )
 
     def _settle_semi_infinite(self, case: Case) -> SettlingAnswer:
         """A semi-infinite body as a symmetric slab deep enough that its middle is untouched
@@ -503,6 +599,12 @@ class Solver:
         self, case: Case, times_s: list[float] | None, time_count: int | None, snapshot_count: int
     ) -> HistoryAnswer:
         """Every defined measure at the given times (or log-spread around the settling time)."""
+        if case.product is not None:
+            raise InvalidInput(
+                "histories of bars, blocks and short cylinders are not offered here; ask "
+                "/v1/settling-time, or follow one direction as a slab or cylinder",
+                "/body",
+            )
         if times_s is None:
             assert time_count is not None
             settled = self.settle(case).time_s

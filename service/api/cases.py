@@ -24,6 +24,7 @@ from service.physics import (
     Geometry,
     Layer,
     Medium,
+    Product,
     Schedule,
     ScheduleSegment,
     SemiInfinite,
@@ -128,7 +129,12 @@ class _Translator:
         value = self.units.to_si(raw, "length", pointer)
         return _in_range(value, LENGTH_RANGE_M, "a length", "m", pointer)
 
-    def body(self, request: rq.SlabBody | rq.RadialBody | rq.SemiInfiniteBody) -> Body:
+    def body(
+        self, request: rq.SlabBody | rq.RadialBody | rq.SemiInfiniteBody | rq.ProductBody
+    ) -> Body:
+        if isinstance(request, rq.ProductBody):
+            # the directions are made in _product; the case's own body is the first of them
+            return self.product_directions(request)[0][1]
         if isinstance(request, rq.SemiInfiniteBody):
             # a provisional slab as deep as any length accepted; the solver sizes the real one
             self.semi_infinite = True
@@ -161,6 +167,38 @@ class _Translator:
                 "/body/inner_radius",
             )
         return Body(geometry, extent, inner)
+
+    def product_directions(self, request: rq.ProductBody) -> list[tuple[str, Body]]:
+        """Each direction's one-dimensional body (slabs of the full sides; the cylinder's
+        radial part and its length as a slab), by name."""
+        if request.shape in ("bar", "block"):
+            count = 2 if request.shape == "bar" else 3
+            if request.sides is None or len(request.sides) != count:
+                raise InvalidInput(
+                    f"a {request.shape} takes 'sides': {count} full side lengths", "/body/sides"
+                )
+            extra = [v for v in ("radius", "diameter", "length") if getattr(request, v)]
+            if extra:
+                raise InvalidInput(f"a {request.shape} takes only 'sides'", f"/body/{extra[0]}")
+            sides = [self.length(v, f"/body/sides/{i}") for i, v in enumerate(request.sides)]
+            names = "xyz"[:count]
+            return [(n, Body(Geometry.SLAB, side)) for n, side in zip(names, sides, strict=True)]
+        if request.sides is not None:
+            raise InvalidInput(
+                "a short cylinder takes a radius or diameter and a length", "/body/sides"
+            )
+        if (request.radius is None) == (request.diameter is None) or request.length is None:
+            raise InvalidInput(
+                "a short cylinder takes exactly one of 'radius' or 'diameter', and 'length'",
+                "/body",
+            )
+        radius = (
+            self.length(request.radius, "/body/radius")
+            if request.radius is not None
+            else self.length(request.diameter, "/body/diameter") / 2  # type: ignore[arg-type]
+        )
+        length = self.length(request.length, "/body/length")
+        return [("radial", Body(Geometry.CYLINDER, radius)), ("axial", Body(Geometry.SLAB, length))]
 
     def _inner_radius(self, request: rq.SlabBody | rq.RadialBody) -> float:
         if isinstance(request, rq.RadialBody) and request.inner_radius is not None:
@@ -656,8 +694,8 @@ class _Translator:
         """The body's K-weighted volume ∫K dV (its plain volume when homogeneous, whose K
         enters the ratio separately)."""
         shape = request.body
-        if isinstance(shape, rq.SemiInfiniteBody):
-            raise InvalidInput("a semi-infinite body has no volume to set a bath against", "/bath")
+        if isinstance(shape, rq.SemiInfiniteBody | rq.ProductBody):
+            raise InvalidInput(f"a bath is not offered for a {shape.shape} body", "/bath")
         body = case.body
         # ∫ C r^m dr is per unit face area (slab), per unit length and radian (cylinder) or
         # per steradian (sphere)
@@ -752,6 +790,8 @@ def to_case(request: rq.CaseRequest, units: Units) -> Translation:
         case = replace(case, semi_infinite=_semi_infinite(request, translator, case))
     if case.medium.reaction_per_s > 0:
         _check_reacting(request, case)
+    if isinstance(request.body, rq.ProductBody):
+        case = replace(case, product=_product(request, translator, case))
     return Translation(
         case=case, positions_m=translator.positions, faces_given=request.faces is not None
     )
@@ -920,3 +960,77 @@ def _check_reacting(request: rq.CaseRequest, case: Case) -> None:
     for failed, needs, pointer in reasons:
         if failed:
             raise InvalidInput(f"a reacting medium is solved here for {needs}", pointer)
+
+
+_PRODUCT_MEASURES = (
+    "value_at",
+    "reaches",
+    "max_deviation",
+    "mean_square_deviation",
+    "fraction_equilibrated",
+)
+
+
+def _product(request: rq.CaseRequest, translator: _Translator, case: Case) -> Product:
+    """A finite body as a product of one-dimensional cases, after checking that the product
+    rule holds: a uniform start, the same held or convective surface on every face (one
+    ambient), a homogeneous medium, nothing else that couples the directions."""
+    assert isinstance(request.body, rq.ProductBody)
+    checks = [
+        (request.surface is None, "the same surface on every face ('surface')", "/faces"),
+        (
+            case.faces.outer.kind not in (SurfaceKind.FIXED_VALUE, SurfaceKind.CONVECTIVE),
+            "a held or convective surface",
+            "/surface",
+        ),
+        (
+            not (case.start.x0.size == 1 and case.start.v0[0] == case.start.v1[0]),
+            "a uniform start",
+            "/initial",
+        ),
+        (
+            case.bath is not None or case.schedule is not None or case.medium.reaction_per_s > 0,
+            "unchanging surroundings without reaction",
+            "/body",
+        ),
+    ]
+    for failed, needs, pointer in checks:
+        if failed:
+            raise InvalidInput(
+                f"a {request.body.shape} is solved as a product of one-dimensional solutions, "
+                f"which holds only for {needs}",
+                pointer,
+            )
+    criterion = case.criterion
+    if criterion is not None:
+        if criterion.measure not in _PRODUCT_MEASURES:
+            raise InvalidInput(
+                "a product body answers " + ", ".join(_PRODUCT_MEASURES), "/criterion/measure"
+            )
+        centre = case.body.extent_m / 2 if case.body.geometry is Geometry.SLAB else 0.0
+        if criterion.position_m is not None and criterion.position_m != centre:
+            raise InvalidInput(
+                "a product body is asked about its centre ('centre') or as a whole",
+                "/criterion/position",
+            )
+    surface = request.surface
+    if isinstance(surface, rq.ConvectiveSurface) and surface.biot is not None:
+        raise InvalidInput(
+            "a product body's directions have their own lengths: give the surface's "
+            "'transfer_coefficient' or 'heat_transfer_coefficient' rather than a Biot number",
+            "/surface/biot",
+        )
+    # the film's coefficient over D, from the Biot number on the case's own Lc
+    film = case.faces.outer.biot / case.characteristic_length_m
+    directions = []
+    names = []
+    for name, body in translator.product_directions(request.body):
+        alike = Faces.alike(body, case.faces.outer)
+        length, _ = characteristic_length(body, alike)
+        end = replace(case.faces.outer, biot=film * length) if film > 0 else case.faces.outer
+        start = Start.uniform(body.extent_m, float(case.start.v0[0]))
+        directions.append(
+            replace(case, body=body, start=start, faces=Faces.alike(body, end), criterion=None)
+        )
+        names.append(name)
+    return Product(tuple(directions), tuple(names))

@@ -254,7 +254,23 @@ class SemiInfiniteBody(_Strict):
     )
 
 
-Body = Annotated[SlabBody | RadialBody | SemiInfiniteBody, Field(discriminator="shape")]
+class ProductBody(_Strict):
+    """A finite body solved as a product of one-dimensional solutions: a long rectangular
+    'bar' (two sides), a 'block' (three sides), or a 'short_cylinder' (radius or diameter, and
+    length). A uniform start and the same held or convective surface all round."""
+
+    shape: Literal["bar", "block", "short_cylinder"]
+    sides: list[Quantity] | None = Field(
+        None, description="Full side lengths (m): two for a bar, three for a block."
+    )
+    radius: Quantity | None = None
+    diameter: Quantity | None = None
+    length: Quantity | None = Field(None, description="A short cylinder's full length (m).")
+
+
+Body = Annotated[
+    SlabBody | RadialBody | SemiInfiniteBody | ProductBody, Field(discriminator="shape")
+]
 
 
 class UniformStart(_Strict):

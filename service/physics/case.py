@@ -22,6 +22,7 @@ __all__ = [
     "Faces",
     "Geometry",
     "Medium",
+    "Product",
     "SemiInfinite",
     "Start",
     "Surface",
@@ -338,6 +339,16 @@ class SemiInfinite:
 
 
 @dataclass(frozen=True)
+class Product:
+    """A finite body as a product of one-dimensional solutions (θ = Π θ_i, θ the deviation
+    over its start): each direction a slab or a solid cylinder with the same medium, uniform
+    start and surface (its Biot number on its own Lc). ``names`` says which is which."""
+
+    directions: tuple[Case, ...]
+    names: tuple[str, ...]
+
+
+@dataclass(frozen=True)
 class Criterion:
     """When the body counts as settled. ``measure`` names a function in service.measures."""
 
@@ -364,6 +375,7 @@ class Case:
     # the medium's diffusivity (D at the hottest temperature) in reference time
     schedule: Schedule | None = None
     semi_infinite: SemiInfinite | None = None
+    product: Product | None = None
 
     @property
     def layers(self) -> tuple[Layer, ...]:
