@@ -64,7 +64,7 @@ from service.engines.common import (
     interval_index,
 )
 from service.errors import InvalidInput, NumericalFailure
-from service.physics import Case, Criterion
+from service.physics import Case, Criterion, SurroundingsSchedule
 
 __all__ = ["MEASURES", "Facts", "Measure", "build_measure", "defined_measures"]
 
@@ -781,6 +781,108 @@ class ProductMeasure(Measure):
         return max(math.log(max(1.0 / self.level, 1.0 + 1e-9)) / rate, 1e-300)
 
 
+class Surrounded(Measure):
+    """A measure while the surroundings follow a schedule, against where they end (f_end).
+
+    With u = c − f_end = (f(t) − f_end) + w, w meets homogeneous surface conditions and obeys
+    ∂w/∂t = D∇²w − f′(t): its modal coefficients γ_k follow γ′ = −λ_k γ − f′·a_k (a_k the
+    modes' means, the expansion of 1), so on a ramp of rate r from s_j
+    γ(t) = γ(s_j)·e^{−λτ} − r·a·(1 − e^{−λτ})/λ, a jump J in f changes γ by −J·a, and from
+    γ(0) = b − (f(0) − f_end)·a on. After the schedule, w = u is the plain modal solution.
+    ``kind``: 'square' ⟨u²⟩/⟨u0²⟩, 'mean' |⟨u⟩/⟨u0⟩|, 'point' |u(x)|/scale, 'max' max|u|."""
+
+    is_monotone = False
+
+    def __init__(
+        self,
+        facts: Facts,
+        solution: ModalSolution,
+        level: float,
+        schedule: SurroundingsSchedule,
+        kind: str,
+        name: str,
+        last: Measure,
+        point_m: float | None = None,
+        scale: float = 1.0,
+    ) -> None:
+        super().__init__(facts, solution, level)
+        self.name = name  # type: ignore[misc]
+        self.kind = kind
+        self.last = last
+        self.scale = scale
+        rates, means = solution.rates_per_s, solution.mode_means
+        final = schedule.segments[-1][0]
+        gamma = solution.amplitudes - (schedule.start_value - final) * means
+        value, time = schedule.start_value, 0.0
+        # (start time, duration, γ at its start, f at its start, rate of f)
+        self._segments: list[tuple[float, float, FloatArray, float, float]] = []
+        for target, duration in schedule.segments:
+            if duration == 0.0:
+                gamma = gamma - (target - value) * means
+                value = target
+                continue
+            rate = (target - value) / duration
+            self._segments.append((time, duration, gamma, value - final, rate))
+            decay = np.exp(-rates * duration)
+            gamma = gamma * decay - rate * means * (1.0 - decay) / rates
+            value, time = target, time + duration
+        self._segments.append((time, math.inf, gamma, 0.0, 0.0))
+        self.end_s = time
+        self._point = solution.basis_at(np.array([point_m]))[0] if point_m is not None else None
+
+    @property
+    def final_amplitudes(self) -> FloatArray:
+        """γ when the schedule ends: the plain modal solution's amplitudes from then on."""
+        return self._segments[-1][2]
+
+    def values(self, times_s: FloatArray) -> FloatArray:
+        times = np.asarray(times_s, dtype=float)
+        out = np.empty(times.shape)
+        starts = np.array([segment[0] for segment in self._segments])
+        index = np.searchsorted(starts, times, side="right") - 1
+        rates, means = self.solution.rates_per_s, self.solution.mode_means
+        for i in np.unique(index).tolist():
+            chosen = index == i
+            start, _, gamma0, offset0, rate = self._segments[i]
+            tau = times[chosen] - start
+            decay = np.exp(-np.outer(tau, rates))
+            gamma = decay * gamma0 - rate * means * (1.0 - decay) / rates
+            offset = offset0 + rate * tau
+            out[chosen] = self._measure(offset, gamma)
+        return out
+
+    def _measure(self, offset: FloatArray, gamma: FloatArray) -> FloatArray:
+        facts, means = self.facts, self.solution.mode_means
+        if self.kind == "square":
+            square = offset**2 + 2 * offset * (gamma @ means) + np.sum(gamma**2, axis=1)
+            return np.asarray(square / facts.mean_square_start)
+        if self.kind == "mean":
+            return np.asarray(np.abs(offset + gamma @ means) / abs(facts.mean_start))
+        if self.kind == "point":
+            assert self._point is not None
+            return np.asarray(np.abs(offset + gamma @ self._point) / self.scale)
+        samples = offset[:, None] + gamma @ self.solution.sample_basis.T
+        return np.asarray(np.max(np.abs(samples), axis=1) / facts.max_abs_start)
+
+    def reported(self, times_s: FloatArray) -> FloatArray:
+        if self.kind == "mean":  # report F itself, as fraction_equilibrated does
+            times = np.asarray(times_s, dtype=float)
+            return np.asarray(1.0 - self.values(times))
+        return self.values(times_s)
+
+    def initial_value(self) -> float:
+        return float(self.values(np.zeros(1))[0])
+
+    def truncation(self, tail: TailBound) -> float:
+        return self.last.truncation(tail)
+
+    def settled_after_s(self, floor_s: float) -> float:
+        return self.end_s + self.last.settled_after_s(floor_s)
+
+    def guess_s(self) -> float:
+        return self.end_s + self.last.guess_s()
+
+
 def _centre_factor(
     solution: ModalSolution, centre_m: float, deviation: float
 ) -> tuple[FloatArray, FloatArray]:
@@ -976,6 +1078,17 @@ def build_measure(
         raise InvalidInput(_NOT_WITH_BATH[name], "/criterion/measure")
     if case.bath is not None and case.bath.exchanges_s:
         return _exchanged(case, facts, solution, criterion)
+    if case.surroundings is not None:
+        return _surrounded(case, facts, solution, criterion)
+    return _plain_measure(case, facts, solution, criterion)
+
+
+def _plain_measure(
+    case: Case, facts: Facts, solution: ModalSolution, criterion: Criterion
+) -> Measure:
+    """The measure a criterion names when its surroundings do not change."""
+    name = criterion.measure
+    with_bath = solution.bath_basis is not None
     if name == "mean_square_deviation" and with_bath:
         assert criterion.tolerance is not None
         return BathMeanSquare(facts, solution, criterion.tolerance)
@@ -1024,6 +1137,56 @@ _NOT_WITH_BATH = {
     "finite bath; use mean_square_deviation",
     "rsd": "rsd is not offered for a body coupled to a finite bath; use mean_square_deviation",
 }
+
+
+_SURROUNDED_KINDS = {
+    "mean_square_deviation": "square",
+    "fraction_equilibrated": "mean",
+    "value_at": "point",
+    "max_deviation": "max",
+}
+
+
+def _surrounded(
+    case: Case, facts: Facts, solution: ModalSolution, criterion: Criterion
+) -> Surrounded:
+    """A measure across a schedule of the surroundings (see ``Surrounded``)."""
+    schedule = case.surroundings
+    assert schedule is not None
+    kind = _SURROUNDED_KINDS[criterion.measure]
+    level = criterion.tolerance
+    point, scale = None, 1.0
+    if kind == "mean":
+        level = 1.0 - (criterion.fraction or 0.0)
+    if kind == "point":
+        point = criterion.position_m
+        if criterion.absolute_tolerance is not None:
+            level = criterion.absolute_tolerance / float(case.partition_at(np.array([point]))[0])
+        else:
+            scale = facts.max_abs_start
+    assert level is not None
+    probe = Surrounded(
+        facts, solution, level, schedule, kind, criterion.measure, _Null(facts, solution, 0.0)
+    )
+    after = replace(solution, amplitudes=probe.final_amplitudes)
+    last = _plain_measure(case, facts, after, criterion)
+    return Surrounded(facts, solution, level, schedule, kind, criterion.measure, last, point, scale)
+
+
+class _Null(Measure):
+    """A stand-in while the amplitudes after a schedule are worked out."""
+
+    name = "null"
+    is_monotone = True
+
+    def values(self, times_s: FloatArray) -> FloatArray:
+        return np.zeros(np.shape(times_s))
+
+    def initial_value(self) -> float:
+        return 0.0
+
+    def truncation(self, tail: TailBound) -> float:
+        return 0.0
 
 
 def _exchanged(
@@ -1129,7 +1292,7 @@ def defined_measures(
     """Every measure defined for the case (value_at only when the criterion names a point),
     the criterion's own measure reused when given, the others at level 1."""
     out: dict[str, Measure] = {}
-    if case.bath is not None and case.bath.exchanges_s:
+    if (case.bath is not None and case.bath.exchanges_s) or case.surroundings is not None:
         # across exchanges only the criterion's own measure is followed
         if criterion_measure is not None:
             out[criterion_measure.name] = criterion_measure

@@ -31,6 +31,7 @@ from service.physics import (
     Start,
     Surface,
     SurfaceKind,
+    SurroundingsSchedule,
     characteristic_length,
 )
 from service.units import DIMENSIONS, Units
@@ -124,6 +125,8 @@ class _Translator:
         self.semi_infinite = False
         # half the wavelength of a periodic start: the cell a segregation pattern is solved on
         self.periodic_cell_m: float | None = None
+        # a schedule of the surroundings' value, and the field it came from
+        self.surroundings: tuple[SurroundingsSchedule, str] | None = None
 
     def length(self, raw: float | str, pointer: str) -> float:
         value = self.units.to_si(raw, "length", pointer)
@@ -583,13 +586,15 @@ class _Translator:
         if isinstance(request, rq.NoFluxSurface):
             return Surface(SurfaceKind.NO_FLUX)
         if isinstance(request, rq.FixedValueSurface):
-            return Surface(SurfaceKind.FIXED_VALUE, value=request.value / divisor)
+            held = self._surface_value(request.value, 1.0 / divisor, pointer + "/value")
+            return Surface(SurfaceKind.FIXED_VALUE, value=held)
         if isinstance(request, rq.BathSurface):
             film = self._film_biot(request, length, medium, pointer)
             return Surface(SurfaceKind.BATH, biot=film if film is not None else 0.0)
         biot = self._film_biot(request, length, medium, pointer)
         assert biot is not None
-        final = medium.partition * request.ambient
+        factor = medium.partition / divisor
+        final = self._surface_value(request.ambient, factor, pointer + "/ambient") * divisor
         if abs(final) > VALUE_LIMIT:
             raise InvalidInput(
                 f"the body's final value K·ambient = {final:.3g} is beyond ±{VALUE_LIMIT:g}; "
@@ -597,6 +602,39 @@ class _Translator:
                 "/medium/partition",
             )
         return Surface(SurfaceKind.CONVECTIVE, value=final / divisor, biot=biot)
+
+    def _surface_value(self, raw: float | list[rq.ValueStep], factor: float, pointer: str) -> float:
+        """A surface value times ``factor`` (into the body's potential); a schedule of holds
+        and ramps is kept as the case's surroundings, and its last value returned."""
+        if not isinstance(raw, list):
+            return raw * factor
+        if self.surroundings is not None and self.surroundings[1] != pointer.rsplit("/", 1)[1]:
+            raise InvalidInput("one schedule for the surroundings, please", pointer)
+        if raw[0].start_at is None:
+            raise InvalidInput("a schedule begins with {'start_at': v}", pointer + "/0")
+        current = raw[0].start_at * factor
+        start = current
+        segments: list[tuple[float, float]] = []
+        for i, step in enumerate(raw[1:], start=1):
+            at = f"{pointer}/{i}"
+            if step.start_at is not None:
+                raise InvalidInput("only the first step is 'start_at'", at)
+            if step.hold is not None:
+                assert step.at is not None
+                target = step.at * factor
+                if target != current:
+                    segments.append((target, 0.0))  # a jump, then the hold
+                segments.append((target, self._duration(step.hold, at + "/hold")))
+            else:
+                assert step.ramp_to is not None and step.over is not None
+                target = step.ramp_to * factor
+                segments.append((target, self._duration(step.over, at + "/over")))
+            current = target
+        self.surroundings = (
+            SurroundingsSchedule(start, tuple(segments)),
+            pointer.rsplit("/", 1)[1],
+        )
+        return current
 
     def _film_biot(
         self,
@@ -792,6 +830,9 @@ def to_case(request: rq.CaseRequest, units: Units) -> Translation:
         _check_reacting(request, case)
     if isinstance(request.body, rq.ProductBody):
         case = replace(case, product=_product(request, translator, case))
+    if translator.surroundings is not None:
+        _check_surroundings(request, case)
+        case = replace(case, surroundings=translator.surroundings[0])
     return Translation(
         case=case, positions_m=translator.positions, faces_given=request.faces is not None
     )
@@ -1034,3 +1075,40 @@ def _product(request: rq.CaseRequest, translator: _Translator, case: Case) -> Pr
         )
         names.append(name)
     return Product(tuple(directions), tuple(names))
+
+
+def _check_surroundings(request: rq.CaseRequest, case: Case) -> None:
+    """A schedule of the surroundings is applied by superposition in time on one linear body
+    with the same surface all round, judged against where it ends."""
+    checks = [
+        (request.surface is None, "the same surface on every face ('surface')", "/faces"),
+        (
+            case.bath is not None
+            or case.schedule is not None
+            or case.semi_infinite is not None
+            or case.product is not None,
+            "a body in surroundings it does not change, without a temperature schedule",
+            "/surface",
+        ),
+    ]
+    for failed, needs, pointer in checks:
+        if failed:
+            raise InvalidInput(
+                f"a schedule of the surroundings is applied here to {needs}", pointer
+            )
+    criterion = case.criterion
+    if criterion is not None and criterion.measure not in _SURROUNDED_MEASURES:
+        raise InvalidInput(
+            "with changing surroundings the body is judged by "
+            + ", ".join(_SURROUNDED_MEASURES)
+            + " (against where it ends)",
+            "/criterion/measure",
+        )
+
+
+_SURROUNDED_MEASURES = (
+    "mean_square_deviation",
+    "max_deviation",
+    "value_at",
+    "fraction_equilibrated",
+)

@@ -328,11 +328,49 @@ class NoFluxSurface(_Strict):
     kind: Literal["no_flux"]
 
 
+class ValueStep(_Strict):
+    """One step of the surroundings' schedule: {'start_at': v} first, then {'hold': duration,
+    'at': v} or {'ramp_to': v, 'over': duration}; values in the body's value units."""
+
+    start_at: Value | None = None
+    hold: Quantity | None = Field(None, description="How long (s, or 'number unit').")
+    at: Value | None = None
+    ramp_to: Value | None = None
+    over: Quantity | None = Field(None, description="The ramp's duration.")
+
+    @model_validator(mode="after")
+    def _one_form(self) -> ValueStep:
+        forms = {
+            "start_at": (self.start_at,),
+            "hold": (self.hold, self.at),
+            "ramp": (self.ramp_to, self.over),
+        }
+        complete = [name for name, fields in forms.items() if all(f is not None for f in fields)]
+        given = sum(f is not None for fields in forms.values() for f in fields)
+        if len(complete) != 1 or given != len(forms[complete[0]]):
+            raise ValueError(
+                "each step is {'start_at': v}, {'hold': duration, 'at': v} or "
+                "{'ramp_to': v, 'over': duration}"
+            )
+        return self
+
+
+# A surface value held constant, or following a schedule of holds and ramps (a furnace ramp,
+# a retort's come-up, a chiller's pull-down), applied exactly by superposition in time.
+SurfaceValue = Annotated[
+    Value | Annotated[list[ValueStep], Field(min_length=2, max_length=200)],
+    Field(
+        description="A number, or a schedule [{'start_at': v}, {'ramp_to': v, 'over': d}, "
+        "{'hold': d, 'at': v}, ...] after which the last value stays."
+    ),
+]
+
+
 class FixedValueSurface(_Strict):
-    """The body's surface value is held."""
+    """The body's surface value is held (constant, or following a schedule)."""
 
     kind: Literal["fixed_value"]
-    value: Value
+    value: SurfaceValue
 
 
 class ConvectiveSurface(_Strict):
@@ -358,7 +396,7 @@ class ConvectiveSurface(_Strict):
         description="Heat transfer coefficient h (W/(m^2*K), or 'number unit'); needs the "
         "medium's conductivity.",
     )
-    ambient: Value
+    ambient: SurfaceValue
 
     @model_validator(mode="after")
     def _one_rate(self) -> ConvectiveSurface:

@@ -23,6 +23,7 @@ from service.physics.case import (
     Start,
     Surface,
     SurfaceKind,
+    SurroundingsSchedule,
     characteristic_length,
     final_state,
 )
@@ -46,6 +47,7 @@ __all__ = [
     "Start",
     "Surface",
     "SurfaceKind",
+    "SurroundingsSchedule",
     "characteristic_length",
     "final_state",
 ]

@@ -27,6 +27,7 @@ __all__ = [
     "Start",
     "Surface",
     "SurfaceKind",
+    "SurroundingsSchedule",
     "characteristic_length",
 ]
 
@@ -349,6 +350,21 @@ class Product:
 
 
 @dataclass(frozen=True)
+class SurroundingsSchedule:
+    """The surroundings' value over time, in the body's potential: from ``start_value``,
+    segments (end value, duration) each a linear ramp (a hold is a ramp to the same value; a
+    jump is a zero-length step between them). Every exchanging end follows it; the surfaces'
+    own ``value`` is its last value, where the body ends."""
+
+    start_value: float
+    segments: tuple[tuple[float, float], ...]
+
+    @property
+    def end_s(self) -> float:
+        return sum(duration for _, duration in self.segments)
+
+
+@dataclass(frozen=True)
 class Criterion:
     """When the body counts as settled. ``measure`` names a function in service.measures."""
 
@@ -376,6 +392,7 @@ class Case:
     schedule: Schedule | None = None
     semi_infinite: SemiInfinite | None = None
     product: Product | None = None
+    surroundings: SurroundingsSchedule | None = None
 
     @property
     def layers(self) -> tuple[Layer, ...]:
