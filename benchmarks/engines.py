@@ -46,6 +46,7 @@ from service.physics import (
     Start,
     Surface,
     SurfaceKind,
+    SurroundingsSchedule,
 )
 from service.solver import Solver
 
@@ -387,6 +388,17 @@ def processes_table(solver: Solver) -> None:
             ),
             schedule=schedule,
         ),
+        "ramped ambient (convective slab)": replace(
+            Case(
+                Body(Geometry.SLAB, 2e-3),
+                Medium(1e-9),
+                Start.uniform(2e-3, 0.0),
+                Faces.alike(Body(Geometry.SLAB, 2e-3), Surface(SurfaceKind.CONVECTIVE, 1.0, 2.0)),
+                Criterion("mean_square_deviation", tolerance=0.01),
+                accuracy=ACCURACY,
+            ),
+            surroundings=SurroundingsSchedule(0.0, ((1.0, 600.0),)),
+        ),
         "reacting pellet (first order)": Case(
             Body(Geometry.SPHERE, 2e-3),
             Medium(5e-7, reaction_per_s=20.0),
@@ -428,6 +440,20 @@ def _process_lines(case: Case, cells: int) -> tuple[float, float]:
     ).tocsr()
     forcing = np.zeros(cells)
     forcing[-1] = boundary * outer.value / volumes[-1]
+    if case.body.geometry is Geometry.SLAB:  # both faces exchange alike
+        diagonal[0] += boundary
+        unit = sparse.diags([g / volumes[1:], -diagonal / volumes, g / volumes[:-1]], [-1, 0, 1])
+        unit = unit.tocsr()
+        forcing[0] = boundary * outer.value / volumes[0]
+    surroundings = case.surroundings
+
+    def ambient_factor(t: float) -> float:
+        """The surroundings' value over its final one (a single ramp from 0 here)."""
+        if surroundings is None:
+            return 1.0
+        target, duration = surroundings.segments[0]
+        return min(t / duration, 1.0) * target / outer.value
+
     rate = case.medium.reaction_per_s
     schedule = case.schedule
     law = schedule.law if schedule is not None else None
@@ -465,7 +491,7 @@ def _process_lines(case: Case, cells: int) -> tuple[float, float]:
 
     def run() -> float:
         result = integrate.solve_ivp(
-            lambda t, y: diffusivity(t) * (unit @ y + forcing) - rate * y,
+            lambda t, y: diffusivity(t) * (unit @ y + ambient_factor(t) * forcing) - rate * y,
             (0.0, 1e3 * case.diffusion_time_s + (clock[-1] if clock is not None else 0.0)),
             y0,
             method="BDF",
