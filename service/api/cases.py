@@ -24,6 +24,7 @@ from service.physics import (
     Geometry,
     Layer,
     Medium,
+    NonlinearDiffusivity,
     Product,
     Schedule,
     ScheduleSegment,
@@ -286,6 +287,10 @@ class _Translator:
             if request.conductivity is not None
             else None
         )
+        nonlinear = self._nonlinear(request, at)
+        if nonlinear is not None:
+            # a placeholder until the final value is known (see to_case)
+            diffusivity_given = float(nonlinear.diffusivity(np.array(0.0)))
         if diffusivity_given is not None:
             diffusivity = _in_range(
                 diffusivity_given,
@@ -313,12 +318,33 @@ class _Translator:
                 at,
             )
         partition = request.partition if request.partition is not None else 1.0
+        if nonlinear is not None:
+            return Medium(diffusivity, conductivity, partition, nonlinear=nonlinear)
         reaction = 0.0
         if request.reaction_rate is not None:
             reaction = self.quantity(
                 request.reaction_rate, "rate", RATE_RANGE, at + "/reaction_rate"
             )
         return Medium(diffusivity, conductivity, partition, reaction)
+
+    def _nonlinear(self, request: rq.Medium, at: str) -> NonlinearDiffusivity | None:
+        """D(c) from a table (linear in log D) or an exponential law."""
+        if request.diffusivity_exponential is not None:
+            law = request.diffusivity_exponential
+            d0 = self.quantity(law.d0, "diffusivity", D0_RANGE, at + "/diffusivity_exponential/d0")
+            return NonlinearDiffusivity(d0=d0, beta=law.beta)
+        if request.diffusivity_table is None:
+            return None
+        values: list[float] = []
+        logs: list[float] = []
+        for i, (value, raw) in enumerate(request.diffusivity_table):
+            where = f"{at}/diffusivity_table/{i}"
+            if not math.isfinite(value) or (values and value <= values[-1]):
+                raise InvalidInput("the table's values must be finite and increase strictly", where)
+            d = self.quantity(raw, "diffusivity", DIFFUSIVITY_RANGE_M2_PER_S, where + "/1")
+            values.append(value)
+            logs.append(math.log(d))
+        return NonlinearDiffusivity(table_c=tuple(values), table_log_d=tuple(logs))
 
     def temperature(self, raw: float | str, pointer: str) -> float:
         """An absolute temperature in kelvin; it must carry its unit (900 could be °C or K)."""
@@ -833,6 +859,8 @@ def to_case(request: rq.CaseRequest, units: Units) -> Translation:
     if translator.surroundings is not None:
         _check_surroundings(request, case)
         case = replace(case, surroundings=translator.surroundings[0])
+    if case.medium.nonlinear is not None:
+        case = _nonlinear_case(request, case)
     return Translation(
         case=case, positions_m=translator.positions, faces_given=request.faces is not None
     )
@@ -1112,3 +1140,56 @@ _SURROUNDED_MEASURES = (
     "value_at",
     "fraction_equilibrated",
 )
+
+
+_NONLINEAR_MEASURES = (
+    "mean_square_deviation",
+    "max_deviation",
+    "fraction_equilibrated",
+    "reaches",
+)
+
+
+def _nonlinear_case(request: rq.CaseRequest, case: Case) -> Case:
+    """A value-dependent diffusivity is solved by stepping in time on one homogeneous body,
+    sealed or held; its time scale is D at the final value."""
+    checks = [
+        (request.surface is None and request.faces is None, "a surface", "/surface"),
+        (
+            any(
+                e.kind not in (SurfaceKind.NO_FLUX, SurfaceKind.FIXED_VALUE)
+                for e in case.faces.ends
+            ),
+            "sealed or held surfaces (a film would need the surface value solved each step)",
+            "/surface" if request.surface is not None else "/faces",
+        ),
+        (
+            case.bath is not None
+            or case.schedule is not None
+            or case.surroundings is not None
+            or case.semi_infinite is not None
+            or case.product is not None
+            or case.medium.reaction_per_s > 0,
+            "a body on its own, in unchanging surroundings",
+            "/medium",
+        ),
+        (
+            len({e.value for e in case.faces.exchanging}) > 1,
+            "one held value (a steady profile would need D(c) solved across the body)",
+            "/faces",
+        ),
+    ]
+    for failed, needs, pointer in checks:
+        if failed:
+            raise InvalidInput(f"a value-dependent diffusivity is solved here for {needs}", pointer)
+    criterion = case.criterion
+    if criterion is not None and criterion.measure not in _NONLINEAR_MEASURES:
+        raise InvalidInput(
+            "with a value-dependent diffusivity the body is judged by "
+            + ", ".join(_NONLINEAR_MEASURES),
+            "/criterion/measure",
+        )
+    law = case.medium.nonlinear
+    assert law is not None
+    scale = float(law.diffusivity(np.array(case.final_value)))
+    return replace(case, medium=replace(case.medium, diffusivity_m2_per_s=scale))

@@ -66,7 +66,7 @@ def _respond(translation: Translation, solver: Solver) -> Response:
             measures=answer.measures,
             method=Method(
                 engine=answer.engine,
-                path="eigen",
+                path=answer.path,
                 resolution=answer.resolution,
                 estimated_relative_error=answer.estimated_relative_error,
             ),

@@ -114,6 +114,13 @@ class ScheduleStep(_Strict):
         return self
 
 
+class DiffusivityExponential(_Strict):
+    d0: Quantity = Field(description="D at value 0 (m^2/s).")
+    beta: float = Field(
+        allow_inf_nan=False, strict=True, ge=-100, le=100, description="Per value unit."
+    )
+
+
 class Medium(_Strict):
     """The body's transport properties: a diffusivity, or for heat the conductivity, density and
     specific heat it follows from (α = k/(ρ·c_p)); the conductivity may also accompany a
@@ -129,6 +136,16 @@ class Medium(_Strict):
     density: Quantity | None = Field(None, description="Density ρ (kg/m^3, or 'number unit').")
     specific_heat: Quantity | None = Field(
         None, description="Specific heat capacity c_p (J/(kg*K), or 'number unit')."
+    )
+    diffusivity_table: list[tuple[float, Quantity]] | None = Field(
+        None,
+        min_length=2,
+        max_length=200,
+        description="D as a function of the value: [[value, D], ...] with increasing values, "
+        "interpolated linearly in log D and flat beyond the ends, in place of 'diffusivity'.",
+    )
+    diffusivity_exponential: DiffusivityExponential | None = Field(
+        None, description="D = d0·exp(beta·value), in place of 'diffusivity'."
     )
     reaction_rate: Quantity | None = Field(
         None,
@@ -155,6 +172,14 @@ class Medium(_Strict):
     @model_validator(mode="after")
     def _determined(self) -> Medium:
         heat = (self.conductivity, self.density, self.specific_heat)
+        nonlinear = [v for v in (self.diffusivity_table, self.diffusivity_exponential) if v]
+        if nonlinear:
+            if len(nonlinear) > 1 or self.diffusivity is not None or self.arrhenius is not None:
+                raise ValueError(
+                    "give one of 'diffusivity', 'diffusivity_table', 'diffusivity_exponential' "
+                    "or 'arrhenius'"
+                )
+            return self
         if self.arrhenius is not None:
             if self.diffusivity is not None or self.density is not None:
                 raise ValueError(

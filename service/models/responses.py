@@ -22,7 +22,10 @@ __all__ = [
 
 class Method(BaseModel):
     engine: str = Field(description="'series' or 'finite_volume': the engine that ran.")
-    path: str = Field(description="'eigen': solved through the eigen-expansion in time.")
+    path: str = Field(
+        description="'eigen': solved through the eigen-expansion in time; 'time_stepping': "
+        "stepped in time (a value-dependent diffusivity)."
+    )
     resolution: int = Field(description="Modes kept (series) or cells (finite_volume).")
     estimated_relative_error: float | None = Field(
         None,

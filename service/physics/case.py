@@ -126,6 +126,9 @@ class Medium:
     partition: float = 1.0
     # first-order consumption or binding: ∂c/∂t = D∇²c − k·c
     reaction_per_s: float = 0.0
+    # a diffusivity that depends on the value (then diffusivity_m2_per_s is D at the final
+    # value, a time scale only)
+    nonlinear: NonlinearDiffusivity | None = None
 
 
 @dataclass(frozen=True)
@@ -794,3 +797,64 @@ def _reaction_state(
 
 def _lowers(body: Body, layers: tuple[Layer, ...]) -> list[float]:
     return [body.inner_m] + [layer.outer_m for layer in layers[:-1]]
+
+
+# Concentration-dependent diffusivity ---------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class NonlinearDiffusivity:
+    """D(c), either d0·exp(β·c) or a table of (c, D) points interpolated linearly in log D
+    (flat beyond its ends). Its Kirchhoff transform Φ(c) = ∫₀^c D dc turns the flux into
+    −∇Φ, which the finite-volume stepping uses face by face; ∫|∇Φ|² never increases."""
+
+    d0: float = 0.0
+    beta: float = 0.0
+    table_c: tuple[float, ...] = ()
+    table_log_d: tuple[float, ...] = ()
+
+    def diffusivity(self, c: FloatArray) -> FloatArray:
+        c = np.asarray(c, dtype=float)
+        if not self.table_c:
+            return np.asarray(self.d0 * np.exp(self.beta * c))
+        return np.asarray(np.exp(np.interp(c, self.table_c, self.table_log_d)))
+
+    def kirchhoff(self, c: FloatArray) -> FloatArray:
+        """Φ(c) = ∫₀^c D(s) ds, exact for both forms."""
+        c = np.asarray(c, dtype=float)
+        if not self.table_c:
+            if self.beta == 0.0:
+                return np.asarray(self.d0 * c)
+            return np.asarray(self.d0 * np.expm1(self.beta * c) / self.beta)
+        return np.asarray(_table_kirchhoff(self.table_c, self.table_log_d, c))
+
+
+def _table_kirchhoff(
+    points: tuple[float, ...], log_d: tuple[float, ...], c: FloatArray
+) -> FloatArray:
+    """∫₀^c D for D = exp(piecewise-linear log D), flat beyond the ends: on a piece from a
+    where log D has slope s, ∫ D = D(a)·(e^{s(c−a)} − 1)/s (D(a)·(c − a) when s = 0)."""
+    x = np.asarray(points, dtype=float)
+    y = np.asarray(log_d, dtype=float)
+    breaks = np.unique(np.r_[x, 0.0])
+    middles = 0.5 * (breaks[:-1] + breaks[1:])
+    inside = (middles >= x[0]) & (middles <= x[-1])
+    segment = np.clip(np.searchsorted(x, middles, side="right") - 1, 0, x.size - 2)
+    slopes = np.where(inside, (y[segment + 1] - y[segment]) / (x[segment + 1] - x[segment]), 0.0)
+    slopes = np.r_[slopes, 0.0]  # beyond the last break: flat
+    start_d = np.exp(np.interp(breaks, x, y))
+
+    def piece(a: FloatArray, slope: FloatArray, d_a: FloatArray, b: FloatArray) -> FloatArray:
+        span = b - a
+        small = np.abs(slope * span) < 1e-12
+        safe = np.where(small, 1.0, slope)
+        return np.asarray(np.where(small, d_a * span, d_a * np.expm1(slope * span) / safe))
+
+    # Φ at every break, from 0 outward
+    widths = piece(breaks[:-1], slopes[:-1], start_d[:-1], breaks[1:])
+    cumulative = np.r_[0.0, np.cumsum(widths)]
+    cumulative -= cumulative[int(np.searchsorted(breaks, 0.0))]
+    values = np.asarray(c, dtype=float)
+    index = np.clip(np.searchsorted(breaks, values, side="right") - 1, 0, breaks.size - 1)
+    slope = np.where(values < breaks[0], 0.0, slopes[index])
+    return np.asarray(cumulative[index] + piece(breaks[index], slope, start_d[index], values))

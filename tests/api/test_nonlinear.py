@@ -1,0 +1,144 @@
+"""A value-dependent diffusivity (time stepping), through HTTP."""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+import pytest
+from fastapi.testclient import TestClient
+from scipy import integrate, optimize
+
+
+def _post(client: TestClient, request: dict[str, Any]) -> Any:
+    response = client.post("/v1/settling-time", json=request)
+    assert response.status_code == 200, response.text
+    return response.json()
+
+
+def _boltzmann_eta(beta: float, value: float) -> float:
+    """The similarity variable ξ = x/√(D0·t) at which c = value, for D = D0·exp(β·c) on a
+    semi-infinite medium held at c = 1 from c = 0: the Boltzmann transform turns the equation
+    into −(ξ/2)·c′ = (e^{βc}·c′)′, solved by shooting on the flux at ξ = 0 until c → 0 at
+    large ξ (bisection to 1e-14, DOP853 at rtol 1e-13) — an independent reference, in no way
+    the engine's method."""
+
+    def d(c: float) -> float:
+        return math.exp(beta * max(min(c, 10.0), -10.0))
+
+    xi_max = 14 * math.sqrt(math.exp(beta))
+
+    def shoot(flux: float, dense: bool = False) -> Any:
+        def rhs(xi: float, y: list[float]) -> list[float]:
+            return [y[1] / d(y[0]), -(xi / 2) * y[1] / d(y[0])]
+
+        def crossed(xi: float, y: list[float]) -> float:
+            return y[0]
+
+        crossed.terminal = True  # type: ignore[attr-defined]
+        crossed.direction = -1  # type: ignore[attr-defined]
+        return integrate.solve_ivp(
+            rhs,
+            (0, xi_max),
+            [1.0, -flux],
+            method="DOP853",
+            rtol=1e-13,
+            atol=1e-15,
+            events=crossed,
+            dense_output=dense,
+        )
+
+    low, high = 1e-3, 1e2
+    while high / low - 1 > 1e-14:
+        middle = math.sqrt(low * high)
+        if shoot(middle).t_events[0].size:
+            high = middle
+        else:
+            low = middle
+    solution = shoot(low, dense=True)
+    return float(
+        optimize.brentq(lambda xi: solution.sol(xi)[0] - value, 0.0, solution.t[-1], xtol=1e-15)
+    )
+
+
+def test_exponential_diffusivity_against_the_boltzmann_similarity_solution(
+    client: TestClient,
+) -> None:
+    """A slab 6 mm thick held at 1 on both faces from 0, D = 1e-10·exp(2c) m²/s: at early
+    times each face is a semi-infinite medium, so the point 0.3 mm deep reaches 0.5 when
+    x/√(D0·t) = ξ*, t = (x/ξ*)²/D0 (the far face's influence, ~exp(−(3 mm)²/(4·D·t)), is
+    below 1e-6 by then)."""
+    xi = _boltzmann_eta(2.0, 0.5)
+    expected = (0.3e-3 / xi) ** 2 / 1e-10
+    body = _post(
+        client,
+        {
+            "body": {"shape": "slab", "thickness": "6 mm"},
+            "medium": {"diffusivity_exponential": {"d0": "1e-10 m^2/s", "beta": 2}},
+            "initial": {"kind": "uniform", "value": 0},
+            "surface": {"kind": "fixed_value", "value": 1},
+            "criterion": {"measure": "reaches", "position": {"depth": "0.3 mm"}, "value": 0.5},
+        },
+    )
+    assert body["method"]["path"] == "time_stepping"
+    error = abs(body["time_s"] / expected - 1)
+    assert error <= 1e-4
+    assert error <= max(2 * body["method"]["estimated_relative_error"], 1e-5)
+
+
+def test_vanishing_dependence_is_the_linear_answer(client: TestClient) -> None:
+    common: dict[str, Any] = {
+        "body": {"shape": "sphere", "radius": "1 mm"},
+        "initial": {"kind": "uniform", "value": 0},
+        "surface": {"kind": "fixed_value", "value": 1},
+        "criterion": {"measure": "fraction_equilibrated", "fraction": 0.9},
+    }
+    linear = _post(client, {**common, "medium": {"diffusivity": "1e-9 m^2/s"}})
+    flat = _post(
+        client,
+        {**common, "medium": {"diffusivity_exponential": {"d0": "1e-9 m^2/s", "beta": 1e-9}}},
+    )
+    assert flat["time_s"] == pytest.approx(linear["time_s"], rel=1e-4)
+
+
+def test_a_table_matching_an_exponential_gives_its_answer(client: TestClient) -> None:
+    """D = 1e-10·exp(2c) is exactly linear in log D, so a two-point table from 0 to 1 is the
+    same law inside [0, 1], where this body's values stay."""
+    common: dict[str, Any] = {
+        "body": {"shape": "slab", "thickness": "1 mm"},
+        "initial": {"kind": "uniform", "value": 0},
+        "surface": {"kind": "fixed_value", "value": 1},
+        "criterion": {"measure": "mean_square_deviation", "tolerance": 0.01},
+    }
+    exponential = _post(
+        client, {**common, "medium": {"diffusivity_exponential": {"d0": 1e-10, "beta": 2}}}
+    )
+    table = _post(
+        client,
+        {**common, "medium": {"diffusivity_table": [[0, 1e-10], [1, 1e-10 * math.exp(2.0)]]}},
+    )
+    assert table["time_s"] == pytest.approx(exponential["time_s"], rel=1e-9)
+
+
+@pytest.mark.parametrize(
+    ("change", "pointer"),
+    [
+        ({"surface": {"kind": "convective", "biot": 1, "ambient": 1}}, "/surface"),
+        ({"criterion": {"measure": "rsd", "tolerance": 0.1}}, "/criterion/measure"),
+        ({"medium": {"diffusivity_table": [[1, 1e-10], [0, 1e-9]]}}, "/medium/diffusivity_table/1"),
+    ],
+)
+def test_nonlinear_errors_name_the_field(
+    client: TestClient, change: dict[str, Any], pointer: str
+) -> None:
+    request = {
+        "body": {"shape": "slab", "thickness": "1 mm"},
+        "medium": {"diffusivity_exponential": {"d0": 1e-10, "beta": 2}},
+        "initial": {"kind": "uniform", "value": 0},
+        "surface": {"kind": "fixed_value", "value": 1},
+        "criterion": {"measure": "mean_square_deviation", "tolerance": 0.01},
+        **change,
+    }
+    response = client.post("/v1/settling-time", json=request)
+    assert response.status_code == 422, response.text
+    assert pointer in [e["pointer"] for e in response.json()["errors"]]
