@@ -20,6 +20,7 @@ from service.engines.common import (
     exchange_intervals,
     interval_index,
 )
+from service.engines.finite_volume import build_mesh, three_grid_estimate
 from service.engines.stepping import step_nonlinear
 from service.errors import InvalidInput, NotApplicable, NumericalFailure
 from service.lumped import LUMPED_BIOT, LumpedAnswer, classical_biot, lumped_answer
@@ -238,10 +239,9 @@ def _assumptions(case: Case, facts: Facts) -> list[str]:
 
 # A value-dependent diffusivity's grids: at least this many cells, or this constant over
 # the square root of the accuracy; the fine run's step tolerance.
-NONLINEAR_CELLS = 100
-NONLINEAR_CELLS_PER_ROOT = 5.0
-NONLINEAR_RTOL = 1e-9
-NONLINEAR_SAFETY = 1.25
+NONLINEAR_CELLS = 64
+NONLINEAR_CELLS_PER_QUARTER_ROOT = 16.0
+NONLINEAR_RTOL = 1e-6
 
 # The steady profiles' forms, per metric exponent (x and r in metres).
 PROFILE_FORMS = {0: "a + b·x", 1: "a + b·ln(r / 1 m)", 2: "a − b/r"}
@@ -384,29 +384,32 @@ class Solver:
         return self._settle(case)
 
     def _settle_nonlinear(self, case: Case) -> SettlingAnswer:
-        """A value-dependent diffusivity: stepped in time on two grids (the second half as
-        fine, with a tenfold tighter step tolerance); the fine grid's time is reported, with
-        its grid convergence index as the error estimate."""
+        """A value-dependent diffusivity: stepped in time on three nested grids (each finer
+        with a tighter step tolerance), reported as the eigen engine reports its grids."""
         criterion = case.criterion
         assert criterion is not None
         facts = Facts.of(case)
-        cells = max(NONLINEAR_CELLS, math.ceil(NONLINEAR_CELLS_PER_ROOT / math.sqrt(case.accuracy)))
+        cells = max(
+            NONLINEAR_CELLS, math.ceil(NONLINEAR_CELLS_PER_QUARTER_ROOT / case.accuracy**0.25)
+        )
+        cells = 4 * math.ceil(cells / 4)
         # a first look on a coarse grid says how far the diffusion has got by the answer; an
         # early answer then gets cells graded toward the surfaces, as the eigen engine does
-        glance = step_nonlinear(case, NONLINEAR_CELLS // 2, NONLINEAR_RTOL * 100)
+        glance = step_nonlinear(
+            case, build_mesh(case, NONLINEAR_CELLS // 2, None), NONLINEAR_RTOL * 100
+        )
         law = case.medium.nonlinear
         assert law is not None
         low, high = case.start.value_range
         fastest = float(np.max(law.diffusivity(np.array([low, high, facts.final_value]))))
         reach = math.sqrt(fastest * glance.time_s)
         length = reach if reach < 0.25 * case.body.wall_m else None
-        coarse = step_nonlinear(case, cells // 2, NONLINEAR_RTOL * 10, length)
-        fine = step_nonlinear(case, cells, NONLINEAR_RTOL, length)
-        time_s = fine.time_s
-        # second order in the cells: the fine grid's error is about a third of the difference
-        # (Roache's grid convergence index with his safety factor 1.25)
-        difference = abs(fine.time_s - coarse.time_s) / fine.time_s if fine.time_s > 0 else 0.0
-        error = NONLINEAR_SAFETY * difference / 3.0
+        # three grids, each twice as fine: the Richardson value of the two finer, its error
+        # from the two coarser (as the eigen engine does), or the finest's GCI
+        faces = build_mesh(case, cells, length)
+        runs = [step_nonlinear(case, faces[::scale], NONLINEAR_RTOL * scale) for scale in (4, 2, 1)]
+        fine = runs[-1]
+        time_s, error, _ = three_grid_estimate(runs[2].time_s, runs[1].time_s, runs[0].time_s)
         warnings = []
         if error > case.accuracy:
             warnings.append(

@@ -38,7 +38,7 @@ from service.engines.common import FOURIER_FLOOR, Crossing, EngineRun, ModalSolu
 from service.errors import NotApplicable, NumericalFailure
 from service.physics import Case, Faces, Geometry, Surface, SurfaceKind
 
-__all__ = ["FiniteVolumeEngine", "build_mesh"]
+__all__ = ["FiniteVolumeEngine", "build_mesh", "three_grid_estimate"]
 
 FloatArray = NDArray[np.float64]
 
@@ -556,7 +556,7 @@ class FiniteVolumeEngine:
                 case, fine_faces[::4], coarse_amounts.reshape(-1, 2).sum(axis=1)
             )
             coarsest_crossing = search(coarsest, floor_s, coarse_crossing.time_s)
-            time_s, error, order = _three_grid_estimate(
+            time_s, error, order = three_grid_estimate(
                 fine_crossing.time_s,
                 coarse_crossing.time_s,
                 coarsest_crossing.time_s,
@@ -584,7 +584,7 @@ def _capped() -> tuple[tuple[str, str], ...]:
     )
 
 
-def _three_grid_estimate(
+def three_grid_estimate(
     fine_s: float, coarse_s: float, coarsest_s: float, *, extrapolate: bool = True
 ) -> tuple[float, float, int]:
     """The time to report, its estimated relative error and the order it converges at.

@@ -24,7 +24,7 @@ import numpy as np
 from numpy.typing import NDArray
 from scipy import integrate, sparse
 
-from service.engines.finite_volume import build_mesh, mirrored_extent
+from service.engines.finite_volume import mirrored_extent
 from service.errors import NotApplicable, NumericalFailure
 from service.physics import Case, SurfaceKind
 
@@ -45,18 +45,14 @@ class SteppedRun:
     cells: int
 
 
-def step_nonlinear(
-    case: Case, cells: int, rtol: float, diffusion_length_m: float | None = None
-) -> SteppedRun:
-    """The time the criterion is met, stepping on ``cells`` cells at tolerance ``rtol``;
-    with ``diffusion_length_m`` the cells are graded toward the held surfaces and breaks as
-    the eigen engine grades them for early answers."""
+def step_nonlinear(case: Case, faces: FloatArray, rtol: float) -> SteppedRun:
+    """The time the criterion is met, stepping on the cells between ``faces`` (from
+    ``finite_volume.build_mesh``) at step tolerance ``rtol``."""
     law = case.medium.nonlinear
     criterion = case.criterion
     assert law is not None and criterion is not None
     body = case.body
     m = body.metric
-    faces = build_mesh(case, cells, diffusion_length_m)
     mirrored = mirrored_extent(case) is not None
     centres = 0.5 * (faces[1:] + faces[:-1])
     volumes = (faces[1:] ** (m + 1) - faces[:-1] ** (m + 1)) / (m + 1)

@@ -140,39 +140,39 @@ def test_finite_volume_half_slab_equals_whole_slab(kind: SurfaceKind) -> None:
     assert times[0] == pytest.approx(times[1], rel=1e-10)
 
 
-def test_three_grid_estimate_extrapolates_a_second_order_sequence() -> None:
+def testthree_grid_estimate_extrapolates_a_second_order_sequence() -> None:
     # t(h) = T + C2·h² + C4·h⁴ on grids h, 2h, 4h (exact algebra, not tuned values): the
     # Richardson value has error −4·C4·h⁴, and the estimate is the safety factor 3 times it
     # (here above the floor of 1/64 of the fine grid's own estimate).
-    from service.engines.finite_volume import _three_grid_estimate
+    from service.engines.finite_volume import three_grid_estimate
 
     exact, c2, c4, h = 10.0, 0.002, 0.3, 0.01
 
     def time_on(size: float) -> float:
         return exact + c2 * size**2 + c4 * size**4
 
-    reported, error, order = _three_grid_estimate(time_on(h), time_on(2 * h), time_on(4 * h))
+    reported, error, order = three_grid_estimate(time_on(h), time_on(2 * h), time_on(4 * h))
     assert order == 4
     assert reported - exact == pytest.approx(-4 * c4 * h**4, rel=1e-6)
     assert error == pytest.approx(3 * 4 * c4 * h**4 / reported, rel=1e-6)
 
 
-def test_three_grid_estimate_caps_the_credited_gain() -> None:
+def testthree_grid_estimate_caps_the_credited_gain() -> None:
     # Three grids that agree on second order by chance (the Richardson values coincide): the
     # estimate stays at the safety factor times 1/64 of the fine grid's |t_f − t_c|/3.
-    from service.engines.finite_volume import _three_grid_estimate
+    from service.engines.finite_volume import three_grid_estimate
 
     fine, coarse, coarsest = 1.0, 1.0 - 4.8e-4, 1.0 - 4.8e-4 - 1.92e-3
-    reported, error, order = _three_grid_estimate(fine, coarse, coarsest)
+    reported, error, order = three_grid_estimate(fine, coarse, coarsest)
     assert order == 4
     assert error == pytest.approx(3 * (4.8e-4 / 3 / 64) / reported, rel=1e-9)
 
 
-def test_three_grid_estimate_falls_back_without_second_order() -> None:
-    from service.engines.finite_volume import _three_grid_estimate
+def testthree_grid_estimate_falls_back_without_second_order() -> None:
+    from service.engines.finite_volume import three_grid_estimate
 
     # first-order convergence (differences halve): the fine time with a grid convergence index
-    reported, error, order = _three_grid_estimate(10.1, 10.2, 10.4)
+    reported, error, order = three_grid_estimate(10.1, 10.2, 10.4)
     assert (reported, order) == (10.1, 2)
     assert error == pytest.approx(3 * 0.1 / 3 / 10.1)
 
