@@ -1,0 +1,357 @@
+"""Checks and derived parts of a case that span the request: processes in time, product and
+semi-infinite bodies, a layered body's reference medium and start."""
+
+from __future__ import annotations
+
+from dataclasses import replace
+from typing import TYPE_CHECKING
+
+import numpy as np
+
+from service.api.ranges import (
+    SEMI_INFINITE_REFERENCE_M,
+)
+from service.api.translate_surfaces import _boundary_pointer
+from service.errors import InvalidInput
+from service.models import requests as rq
+from service.physics import (
+    Body,
+    Case,
+    Faces,
+    Geometry,
+    Medium,
+    Product,
+    Schedule,
+    SemiInfinite,
+    Start,
+    SurfaceKind,
+    characteristic_length,
+)
+
+if TYPE_CHECKING:
+    from service.api.cases import _Translator
+
+
+def reference_medium(body: Body) -> Medium:
+    """A layered body's reference diffusivity, for its Fourier number and time scales only:
+    D_ref = L²/((Σ C_i·t_i)·(Σ t_i/Λ_i)), the wall's capacity times its resistance (exact for
+    one layer; the engines use each layer's own properties)."""
+    capacity, resistance, lower = 0.0, 0.0, body.inner_m
+    for layer in body.layers:
+        thickness = layer.outer_m - lower
+        capacity += layer.capacity * thickness
+        resistance += thickness / layer.conductivity + layer.resistance
+        lower = layer.outer_m
+    return Medium(body.wall_m**2 / (capacity * resistance))
+
+
+def in_potential(start: Start, body: Body) -> Start:
+    """A layered body's start in the potential φ = c/K, split at the interfaces, each piece
+    carrying its layer's capacity; a homogeneous body's start as it is."""
+    if not body.layers:
+        return start
+    lowers = [body.inner_m] + [layer.outer_m for layer in body.layers[:-1]]
+    pieces: list[tuple[float, float, float, float]] = []
+    capacity: list[float] = []
+    for lower, layer in zip(lowers, body.layers, strict=True):
+        for x0, x1, v0, v1 in zip(start.x0, start.x1, start.v0, start.v1, strict=True):
+            low, high = max(x0, lower), min(x1, layer.outer_m)
+            if high <= low:
+                continue
+            slope = (v1 - v0) / (x1 - x0)
+            values = (v0 + slope * (low - x0), v0 + slope * (high - x0))
+            pieces.append((low, high, values[0] / layer.partition, values[1] / layer.partition))
+            capacity.append(layer.capacity)
+    return Start.from_pieces(pieces, capacity)
+
+
+def _medium_and_schedule(
+    translator: _Translator, request: rq.CaseRequest, body: Body
+) -> tuple[Medium, Schedule | None]:
+    """The medium (a layered body's reference one), and the schedule an Arrhenius medium
+    follows; an Arrhenius medium at one temperature is a constant diffusivity."""
+    if request.medium is None:
+        for name in ("temperature", "schedule"):
+            if getattr(request, name) is not None:
+                raise InvalidInput(f"'{name}' goes with an Arrhenius medium", f"/{name}")
+        return reference_medium(body), None
+    law_request = request.medium.arrhenius
+    if law_request is None:
+        for name in ("temperature", "schedule"):
+            if getattr(request, name) is not None:
+                raise InvalidInput(f"'{name}' goes with a medium given as 'arrhenius'", f"/{name}")
+        return translator.medium(request.medium), None
+    law = translator.arrhenius(law_request, "/medium/arrhenius")
+    if (request.temperature is None) == (request.schedule is None):
+        raise InvalidInput(
+            "an Arrhenius medium needs exactly one of 'temperature' or 'schedule'",
+            "/medium/arrhenius",
+        )
+    if request.temperature is not None:
+        kelvin = translator.temperature(request.temperature, "/temperature")
+        return translator.medium(request.medium, diffusivity_given=law.diffusivity(kelvin)), None
+    assert request.schedule is not None
+    schedule = translator.schedule(request.schedule, law)
+    medium = translator.medium(request.medium, diffusivity_given=schedule.reference_diffusivity)
+    return medium, schedule
+
+
+def _check_separable(request: rq.CaseRequest, case: Case) -> None:
+    """Reduced time is exact only while nothing but D changes with temperature: sealed and
+    held surfaces and film-free baths, one material, no bath exchanges (clock times)."""
+    if any(end.biot > 0 for end in case.faces.ends):
+        raise InvalidInput(
+            "under a temperature schedule a surface film's Biot number k·Lc/D changes with D, "
+            "so reduced time is not exact; that needs time stepping, which this version does "
+            "not do: use held or sealed surfaces, or a fixed temperature",
+            _boundary_pointer(request),
+        )
+    if case.bath is not None and case.bath.exchanges_s:
+        raise InvalidInput(
+            "bath exchanges are not combined with a temperature schedule here",
+            "/bath/exchanges",
+        )
+
+
+def _semi_infinite(request: rq.CaseRequest, translator: _Translator, case: Case) -> SemiInfinite:
+    """What a semi-infinite body needs beyond the provisional slab: its surface's transfer
+    coefficient (a Biot number needs a length it has not got) and the real thickness."""
+    if request.surface is None or case.faces.outer.kind not in (
+        SurfaceKind.FIXED_VALUE,
+        SurfaceKind.CONVECTIVE,
+    ):
+        raise InvalidInput(
+            "a semi-infinite body takes one 'surface', held ('fixed_value') or convective",
+            "/surface" if request.surface is not None else "/faces",
+        )
+    surface = request.surface
+    if isinstance(surface, rq.ConvectiveSurface) and surface.biot is not None:
+        raise InvalidInput(
+            "a semi-infinite body has no length for a Biot number: give the surface's "
+            "'transfer_coefficient' or 'heat_transfer_coefficient'",
+            "/surface/biot",
+        )
+    if not (case.start.x0.size == 1 and case.start.v0[0] == case.start.v1[0]):
+        raise InvalidInput("a semi-infinite body starts uniform here", "/initial")
+    criterion = case.criterion
+    if criterion is not None and criterion.measure not in ("reaches", "value_at"):
+        raise InvalidInput(
+            "a semi-infinite body is asked about a point: use 'reaches' or 'value_at'",
+            "/criterion/measure",
+        )
+    outer = case.faces.outer
+    transfer = None
+    if outer.kind is SurfaceKind.CONVECTIVE:
+        transfer = outer.biot * case.medium.diffusivity_m2_per_s / SEMI_INFINITE_REFERENCE_M
+    thickness = None
+    assert isinstance(request.body, rq.SemiInfiniteBody)
+    if request.body.thickness is not None:
+        thickness = translator.length(request.body.thickness, "/body/thickness")
+    return SemiInfinite(transfer, thickness)
+
+
+def _periodic_cell(translator: _Translator, request: rq.CaseRequest) -> float | None:
+    """Half the wavelength of a periodic start, after checking that the body is the sealed
+    slab cell it implies."""
+    initial = request.initial
+    if not isinstance(initial, rq.PeriodicStart):
+        return None
+    body = request.body
+    if not isinstance(body, rq.SlabBody) or any(
+        v is not None for v in (body.thickness, body.half_thickness, body.layers)
+    ):
+        raise InvalidInput(
+            "a periodic start is solved on its half-wavelength cell: give the body as "
+            "{'shape': 'slab'} with no size (the wavelength sets it)",
+            "/body",
+        )
+    if request.surface is None or not isinstance(request.surface, rq.NoFluxSurface):
+        raise InvalidInput(
+            "the faces of a periodic cell are planes of symmetry: the surface is 'no_flux'",
+            "/surface" if request.surface is not None else "/faces",
+        )
+    wavelength = translator.length(initial.wavelength, "/initial/wavelength")
+    return wavelength / 2
+
+
+def _check_reacting(request: rq.CaseRequest, case: Case) -> None:
+    """First-order reaction is solved for a homogeneous solid cylinder or sphere, or a slab,
+    with the same held or convective condition on every surface."""
+    reasons = [
+        (request.surface is None, "the same surface on every face", "/faces"),
+        (case.body.layers != () or case.body.inner_m > 0, "a solid, homogeneous body", "/body"),
+        (case.bath is not None or case.schedule is not None, "unchanging surroundings", "/bath"),
+        (case.semi_infinite is not None, "a finite body", "/body"),
+        (
+            case.faces.outer.kind not in (SurfaceKind.FIXED_VALUE, SurfaceKind.CONVECTIVE),
+            "a held or convective surface (a sealed body would only decay to zero)",
+            "/surface",
+        ),
+    ]
+    for failed, needs, pointer in reasons:
+        if failed:
+            raise InvalidInput(f"a reacting medium is solved here for {needs}", pointer)
+
+
+_PRODUCT_MEASURES = (
+    "value_at",
+    "reaches",
+    "max_deviation",
+    "mean_square_deviation",
+    "fraction_equilibrated",
+)
+
+
+def _product(request: rq.CaseRequest, translator: _Translator, case: Case) -> Product:
+    """A finite body as a product of one-dimensional cases, after checking that the product
+    rule holds: a uniform start, the same held or convective surface on every face (one
+    ambient), a homogeneous medium, nothing else that couples the directions."""
+    assert isinstance(request.body, rq.ProductBody)
+    checks = [
+        (request.surface is None, "the same surface on every face ('surface')", "/faces"),
+        (
+            case.faces.outer.kind not in (SurfaceKind.FIXED_VALUE, SurfaceKind.CONVECTIVE),
+            "a held or convective surface",
+            "/surface",
+        ),
+        (
+            not (case.start.x0.size == 1 and case.start.v0[0] == case.start.v1[0]),
+            "a uniform start",
+            "/initial",
+        ),
+        (
+            case.bath is not None or case.schedule is not None or case.medium.reaction_per_s > 0,
+            "unchanging surroundings without reaction",
+            "/body",
+        ),
+    ]
+    for failed, needs, pointer in checks:
+        if failed:
+            raise InvalidInput(
+                f"a {request.body.shape} is solved as a product of one-dimensional solutions, "
+                f"which holds only for {needs}",
+                pointer,
+            )
+    criterion = case.criterion
+    if criterion is not None:
+        if criterion.measure not in _PRODUCT_MEASURES:
+            raise InvalidInput(
+                "a product body answers " + ", ".join(_PRODUCT_MEASURES), "/criterion/measure"
+            )
+        centre = case.body.extent_m / 2 if case.body.geometry is Geometry.SLAB else 0.0
+        if criterion.position_m is not None and criterion.position_m != centre:
+            raise InvalidInput(
+                "a product body is asked about its centre ('centre') or as a whole",
+                "/criterion/position",
+            )
+    surface = request.surface
+    if isinstance(surface, rq.ConvectiveSurface) and surface.biot is not None:
+        raise InvalidInput(
+            "a product body's directions have their own lengths: give the surface's "
+            "'transfer_coefficient' or 'heat_transfer_coefficient' rather than a Biot number",
+            "/surface/biot",
+        )
+    # the film's coefficient over D, from the Biot number on the case's own Lc
+    film = case.faces.outer.biot / case.characteristic_length_m
+    directions = []
+    names = []
+    for name, body in translator.product_directions(request.body):
+        alike = Faces.alike(body, case.faces.outer)
+        length, _ = characteristic_length(body, alike)
+        end = replace(case.faces.outer, biot=film * length) if film > 0 else case.faces.outer
+        start = Start.uniform(body.extent_m, float(case.start.v0[0]))
+        directions.append(
+            replace(case, body=body, start=start, faces=Faces.alike(body, end), criterion=None)
+        )
+        names.append(name)
+    return Product(tuple(directions), tuple(names))
+
+
+def _check_surroundings(request: rq.CaseRequest, case: Case) -> None:
+    """A schedule of the surroundings is applied by superposition in time on one linear body
+    with the same surface all round, judged against where it ends."""
+    checks = [
+        (request.surface is None, "the same surface on every face ('surface')", "/faces"),
+        (
+            case.bath is not None
+            or case.schedule is not None
+            or case.semi_infinite is not None
+            or case.product is not None,
+            "a body in surroundings it does not change, without a temperature schedule",
+            "/surface",
+        ),
+    ]
+    for failed, needs, pointer in checks:
+        if failed:
+            raise InvalidInput(
+                f"a schedule of the surroundings is applied here to {needs}", pointer
+            )
+    criterion = case.criterion
+    if criterion is not None and criterion.measure not in _SURROUNDED_MEASURES:
+        raise InvalidInput(
+            "with changing surroundings the body is judged by "
+            + ", ".join(_SURROUNDED_MEASURES)
+            + " (against where it ends)",
+            "/criterion/measure",
+        )
+
+
+_SURROUNDED_MEASURES = (
+    "mean_square_deviation",
+    "max_deviation",
+    "value_at",
+    "fraction_equilibrated",
+)
+
+
+_NONLINEAR_MEASURES = (
+    "mean_square_deviation",
+    "max_deviation",
+    "fraction_equilibrated",
+    "reaches",
+)
+
+
+def _nonlinear_case(request: rq.CaseRequest, case: Case) -> Case:
+    """A value-dependent diffusivity is solved by stepping in time on one homogeneous body,
+    sealed or held; its time scale is D at the final value."""
+    checks = [
+        (request.surface is None and request.faces is None, "a surface", "/surface"),
+        (
+            any(
+                e.kind not in (SurfaceKind.NO_FLUX, SurfaceKind.FIXED_VALUE)
+                for e in case.faces.ends
+            ),
+            "sealed or held surfaces (a film would need the surface value solved each step)",
+            "/surface" if request.surface is not None else "/faces",
+        ),
+        (
+            case.bath is not None
+            or case.schedule is not None
+            or case.surroundings is not None
+            or case.semi_infinite is not None
+            or case.product is not None
+            or case.medium.reaction_per_s > 0,
+            "a body on its own, in unchanging surroundings",
+            "/medium",
+        ),
+        (
+            len({e.value for e in case.faces.exchanging}) > 1,
+            "one held value (a steady profile would need D(c) solved across the body)",
+            "/faces",
+        ),
+    ]
+    for failed, needs, pointer in checks:
+        if failed:
+            raise InvalidInput(f"a value-dependent diffusivity is solved here for {needs}", pointer)
+    criterion = case.criterion
+    if criterion is not None and criterion.measure not in _NONLINEAR_MEASURES:
+        raise InvalidInput(
+            "with a value-dependent diffusivity the body is judged by "
+            + ", ".join(_NONLINEAR_MEASURES),
+            "/criterion/measure",
+        )
+    law = case.medium.nonlinear
+    assert law is not None
+    scale = float(law.diffusivity(np.array(case.final_value)))
+    return replace(case, medium=replace(case.medium, diffusivity_m2_per_s=scale))
