@@ -237,11 +237,16 @@ def _assumptions(case: Case, facts: Facts) -> list[str]:
     return assumptions
 
 
-# A value-dependent diffusivity's grids: at least this many cells, or this constant over
-# the square root of the accuracy; the fine run's step tolerance.
-NONLINEAR_CELLS = 64
-NONLINEAR_CELLS_PER_QUARTER_ROOT = 16.0
-NONLINEAR_RTOL = 1e-6
+# A value-dependent diffusivity's grids: the finest of the first three has this many cells
+# over the body (the coarsest a quarter of them), halved until the estimate meets the
+# accuracy, never past the cap. The step tolerance is this multiple of the accuracy; the
+# check on it runs that much tighter, its difference counted with a safety factor.
+NONLINEAR_FIRST_CELLS = 64
+NONLINEAR_MAX_CELLS = 2048
+NONLINEAR_RTOL_PER_ACCURACY = 1.0
+NONLINEAR_TIGHTER = 4.0
+NONLINEAR_MIN_RTOL = 1e-11
+NONLINEAR_STEPPING_SAFETY = 3.0
 
 # The steady profiles' forms, per metric exponent (x and r in metres).
 PROFILE_FORMS = {0: "a + b·x", 1: "a + b·ln(r / 1 m)", 2: "a − b/r"}
@@ -250,6 +255,11 @@ REACTION_FORMS = {
     1: "scale·I0(modulus·r)",
     2: "scale·sinh(modulus·r)/(modulus·r)",
 }
+
+
+def _bisected(faces: FloatArray) -> FloatArray:
+    """Every cell split at its middle: the grid whose every second face is ``faces``."""
+    return np.sort(np.r_[faces, 0.5 * (faces[1:] + faces[:-1])])
 
 
 def describe_final_state(case: Case) -> str:
@@ -384,39 +394,55 @@ class Solver:
         return self._settle(case)
 
     def _settle_nonlinear(self, case: Case) -> SettlingAnswer:
-        """A value-dependent diffusivity: stepped in time on three nested grids (each finer
-        with a tighter step tolerance), reported as the eigen engine reports its grids."""
+        """A value-dependent diffusivity: stepped in time on three nested grids, reported as
+        the eigen engine reports its grids, with the time-stepping error measured by a second
+        run at a tighter step tolerance and added to the estimate. Grids are halved until the
+        estimate meets the accuracy asked or the cell cap is reached. The step tolerance
+        starts at the accuracy and is tightened first, on the coarsest grid, until its share of
+        the error is at most half the accuracy."""
         criterion = case.criterion
         assert criterion is not None
         facts = Facts.of(case)
-        cells = max(
-            NONLINEAR_CELLS, math.ceil(NONLINEAR_CELLS_PER_QUARTER_ROOT / case.accuracy**0.25)
-        )
-        cells = 4 * math.ceil(cells / 4)
-        # a first look on a coarse grid says how far the diffusion has got by the answer; an
-        # early answer then gets cells graded toward the surfaces, as the eigen engine does
-        glance = step_nonlinear(
-            case, build_mesh(case, NONLINEAR_CELLS // 2, None), NONLINEAR_RTOL * 100
-        )
+        rtol = NONLINEAR_RTOL_PER_ACCURACY * case.accuracy
+        # the coarsest grid, uniform, says how far the diffusion has got by the answer; an
+        # early answer gets grids graded toward the surfaces instead, as the eigen engine does
+        faces = build_mesh(case, NONLINEAR_FIRST_CELLS, None)
+        glance = step_nonlinear(case, faces[::4], rtol)
         law = case.medium.nonlinear
         assert law is not None
         low, high = case.start.value_range
         fastest = float(np.max(law.diffusivity(np.array([low, high, facts.final_value]))))
         reach = math.sqrt(fastest * glance.time_s)
-        length = reach if reach < 0.25 * case.body.wall_m else None
-        # three grids, each twice as fine: the Richardson value of the two finer, its error
-        # from the two coarser (as the eigen engine does), or the finest's GCI
-        faces = build_mesh(case, cells, length)
-        runs = [step_nonlinear(case, faces[::scale], NONLINEAR_RTOL * scale) for scale in (4, 2, 1)]
+        if reach < 0.25 * case.body.wall_m:
+            faces = build_mesh(case, NONLINEAR_FIRST_CELLS, reach)
+            glance = step_nonlinear(case, faces[::4], rtol)
+        # the step tolerance's share of the error: the coarsest grid again at a tighter one,
+        # tightening until that share is at most half the accuracy asked
+        while True:
+            tighter = step_nonlinear(case, faces[::4], rtol / NONLINEAR_TIGHTER)
+            stepping_error = NONLINEAR_STEPPING_SAFETY * abs(glance.time_s / tighter.time_s - 1)
+            if stepping_error <= 0.5 * case.accuracy or rtol < NONLINEAR_MIN_RTOL:
+                break
+            rtol /= NONLINEAR_TIGHTER
+            glance = tighter
+        runs = [glance, *(step_nonlinear(case, faces[::scale], rtol) for scale in (2, 1))]
+        while True:
+            time_s, grid_error, _ = three_grid_estimate(
+                runs[2].time_s, runs[1].time_s, runs[0].time_s
+            )
+            error = grid_error + stepping_error
+            if error <= case.accuracy or 2 * (faces.size - 1) > NONLINEAR_MAX_CELLS:
+                break
+            faces = _bisected(faces)
+            runs = [*runs[1:], step_nonlinear(case, faces, rtol)]
         fine = runs[-1]
-        time_s, error, _ = three_grid_estimate(runs[2].time_s, runs[1].time_s, runs[0].time_s)
         warnings = []
         if error > case.accuracy:
             warnings.append(
                 (
                     "resolution_capped",
-                    f"the two time-stepped grids differ by {error:.2g} of the time, more than the "
-                    "accuracy asked; the finer is reported",
+                    f"the time-stepped grids and step tolerances leave an estimated {error:.2g} "
+                    "of the time, more than the accuracy asked",
                 )
             )
         return SettlingAnswer(
