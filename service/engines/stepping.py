@@ -106,20 +106,22 @@ def step_nonlinear(case: Case, faces: FloatArray, rtol: float) -> SteppedRun:
         d = law.diffusivity(bounded(c))
         return Tridiagonal(lower_g * d[:-1], diagonal_g * d, upper_g * d[1:])
 
-    def measures(c: FloatArray) -> dict[str, float]:
-        u = c - final
-        values = {
-            "mean_square_deviation": float(np.sum(volumes * u**2)) / total / square0,
-            "max_deviation": float(np.max(np.abs(u))) / max0,
-        }
-        if case.faces.exchanging and mean0 != 0.0:
-            values["fraction_equilibrated"] = 1.0 - float(np.sum(volumes * u)) / total / mean0
-        return values
+    weights = volumes / total
+    # each measure of a state, as a ratio to its start
+    measure_of: dict[str, Callable[[FloatArray], float]] = {
+        "mean_square_deviation": lambda c: float(weights @ (c - final) ** 2) / square0,
+        "max_deviation": lambda c: float(np.max(np.abs(c - final))) / max0,
+    }
+    if case.faces.exchanging and mean0 != 0.0:
+        measure_of["fraction_equilibrated"] = lambda c: 1.0 - float(weights @ (c - final)) / mean0
 
-    level, compared = _criterion(case, centres, faces, final, start, mirrored)
+    def measures(c: FloatArray) -> dict[str, float]:
+        return {name: measure(c) for name, measure in measure_of.items()}
+
+    level, compared = _criterion(case, centres, faces, final, start, mirrored, measure_of)
 
     def event(c: FloatArray) -> float:
-        return compared(c, measures) - level
+        return compared(c) - level
 
     if event(start) <= 0:
         return SteppedRun(0.0, {k: v for k, v in measures(start).items()}, centres.size)
@@ -140,9 +142,6 @@ def step_nonlinear(case: Case, faces: FloatArray, rtol: float) -> SteppedRun:
     return SteppedRun(time_s, reported, centres.size * (2 if mirrored else 1))
 
 
-Measures = Callable[[FloatArray], dict[str, float]]
-
-
 def _criterion(
     case: Case,
     centres: FloatArray,
@@ -150,8 +149,9 @@ def _criterion(
     final: float,
     start: FloatArray,
     mirrored: bool,
-) -> tuple[float, Callable[[FloatArray, Measures], float]]:
-    """(level, compared(c, measures)) for the criterion: the compared quantity falls to the
+    measure_of: dict[str, Callable[[FloatArray], float]],
+) -> tuple[float, Callable[[FloatArray], float]]:
+    """(level, compared(c)) for the criterion: the compared quantity falls to the
     level."""
     criterion = case.criterion
     assert criterion is not None
@@ -173,13 +173,14 @@ def _criterion(
         target = criterion.value
         sign = math.copysign(1.0, float(np.interp(point, centres, start)) - target)
 
-        def reach(c: FloatArray, measures: Measures) -> float:
+        def reach(c: FloatArray) -> float:
             values = np.r_[[final] * len(prefix), c, [final] * len(suffix)]
             return sign * (float(np.interp(point, nodes, values)) - target)
 
         return 0.0, reach
     if name == "fraction_equilibrated":
         level = 1.0 - (criterion.fraction or 0.0)
-        return level, lambda c, measures: 1.0 - measures(c)["fraction_equilibrated"]
+        equilibrated = measure_of["fraction_equilibrated"]
+        return level, lambda c: 1.0 - equilibrated(c)
     assert criterion.tolerance is not None
-    return criterion.tolerance, lambda c, measures: measures(c)[name]
+    return criterion.tolerance, measure_of[name]
