@@ -98,18 +98,70 @@ def _medium_and_schedule(
 
 def _check_separable(request: rq.CaseRequest, case: Case) -> None:
     """Reduced time is exact only while nothing but D changes with temperature: sealed and
-    held surfaces and film-free baths, one material, no bath exchanges (clock times)."""
-    if any(end.biot > 0 for end in case.faces.ends):
-        raise InvalidInput(
-            "under a temperature schedule a surface film's Biot number k·Lc/D changes with D, "
-            "so reduced time is not exact; that needs time stepping, which this version does "
-            "not do: use held or sealed surfaces, or a fixed temperature",
-            _boundary_pointer(request),
-        )
+    held surfaces and film-free baths, one material, no bath exchanges (clock times). A
+    surface film is stepped in time instead, and needs its transfer coefficient (a Biot number
+    moves with D); ``_check_stepped_schedule`` checks the rest once the case is whole."""
     if case.bath is not None and case.bath.exchanges_s:
         raise InvalidInput(
             "bath exchanges are not combined with a temperature schedule here",
             "/bath/exchanges",
+        )
+    for pointer, surface in _request_surfaces(request):
+        if isinstance(surface, rq.ConvectiveSurface) and surface.biot is not None:
+            raise InvalidInput(
+                "under a temperature schedule a film's Biot number k·Lc/D changes with D: give "
+                "its 'transfer_coefficient' instead",
+                pointer + "/biot",
+            )
+
+
+def _request_surfaces(request: rq.CaseRequest) -> list[tuple[str, rq.Surface]]:
+    """Every surface condition the request gives, with its pointer."""
+    if request.surface is not None:
+        return [("/surface", request.surface)]
+    if request.faces is None:
+        return []
+    names = ("first", "second", "inner", "outer")
+    given = ((name, getattr(request.faces, name)) for name in names)
+    return [(f"/faces/{name}", surface) for name, surface in given if surface is not None]
+
+
+def _check_stepped_schedule(request: rq.CaseRequest, case: Case) -> None:
+    """A surface film under a temperature schedule is stepped in clock time: one homogeneous
+    body on its own, every exchanging end toward one value, judged by a measure the stepping
+    offers."""
+    checks = [
+        (
+            case.bath is not None,
+            "a body without a bath (a film to a bath is not stepped here)",
+            "/bath",
+        ),
+        (
+            case.semi_infinite is not None
+            or case.product is not None
+            or case.surroundings is not None
+            or case.medium.reaction_per_s > 0,
+            "a slab, cylinder or sphere in unchanging surroundings, without reaction",
+            "/body",
+        ),
+        (
+            len({e.value for e in case.faces.exchanging}) > 1,
+            "one surroundings value (a steady profile is not stepped here)",
+            _boundary_pointer(request),
+        ),
+    ]
+    for failed, needs, pointer in checks:
+        if failed:
+            raise InvalidInput(
+                f"a surface film under a temperature schedule is stepped in time, for {needs}",
+                pointer,
+            )
+    criterion = case.criterion
+    if criterion is not None and criterion.measure not in _NONLINEAR_MEASURES:
+        raise InvalidInput(
+            "a surface film under a temperature schedule is stepped in time and judged by "
+            + ", ".join(_NONLINEAR_MEASURES),
+            "/criterion/measure",
         )
 
 

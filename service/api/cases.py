@@ -11,6 +11,7 @@ from dataclasses import dataclass, field, replace
 from service.api.case_checks import (
     _check_reacting,
     _check_separable,
+    _check_stepped_schedule,
     _check_surroundings,
     _medium_and_schedule,
     _nonlinear_case,
@@ -112,6 +113,8 @@ def to_case(request: rq.CaseRequest, units: Units) -> Translation:
         case = replace(case, surroundings=translator.surroundings[0])
     if case.medium.nonlinear is not None:
         case = _nonlinear_case(request, case)
+    if case.needs_stepping and case.schedule is not None:
+        _check_stepped_schedule(request, case)
     return Translation(
         case=case, positions_m=translator.positions, faces_given=request.faces is not None
     )

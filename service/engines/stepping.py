@@ -1,4 +1,6 @@
-"""Time stepping for a value-dependent diffusivity D(c), where no eigen-expansion exists.
+"""Time stepping where no eigen-expansion exists: a value-dependent diffusivity D(c), and a
+diffusivity that follows a temperature schedule behind a surface film (whose Biot number then
+changes with D, so reduced time does not separate the problem).
 
 Notes
 -----
@@ -13,6 +15,12 @@ Jacobian ∂F_i/∂c_j = G·D(c_j) in closed form, and the criterion is located 
 stepper's interpolant (the measures offered here only fall: the mean square and the largest
 deviation from a constant final value, the amount's approach, and a value first reached at a
 point).
+
+Under a schedule the flux is scaled by s(t) = D(T(t))/D_ref in clock time, and a convective
+end passes (value − c)·A/(R_film + gap/(s·D_ref)) to its cell, the film resistance
+R_film = Lc/(Bi·D_ref) (Bi on D_ref, so R_film = 1/k_eff stays fixed while D moves); the
+system is then non-autonomous and the stepper adds its time derivative. Films are stepped for
+a constant D only (the API refuses them with D(c)).
 """
 
 from __future__ import annotations
@@ -26,9 +34,10 @@ from numpy.typing import NDArray
 
 from service.engines.finite_volume import mirrored_extent
 from service.engines.rosenbrock import Tridiagonal, integrate_to_event
-from service.physics import Case, SurfaceKind
+from service.errors import NumericalFailure
+from service.physics import Case, NonlinearDiffusivity, SurfaceKind
 
-__all__ = ["SteppedRun", "step_nonlinear"]
+__all__ = ["SteppedRun", "step_in_time"]
 
 FloatArray = NDArray[np.float64]
 
@@ -38,17 +47,31 @@ _HORIZON = 1e4
 
 @dataclass(frozen=True)
 class SteppedRun:
+    """Where the criterion was met, or with ``met`` false the state at ``until_s``, and by how
+    much the criterion's quantity then exceeds its level (``shortfall``, ≤ 0 once met)."""
+
     time_s: float
     measures: dict[str, float | None]
     cells: int
+    met: bool = True
+    shortfall: float = 0.0
 
 
-def step_nonlinear(case: Case, faces: FloatArray, rtol: float) -> SteppedRun:
+def step_in_time(
+    case: Case,
+    faces: FloatArray,
+    rtol: float,
+    until_s: float | None = None,
+    *,
+    stop_when_met: bool = True,
+) -> SteppedRun:
     """The time the criterion is met, stepping on the cells between ``faces`` (from
-    ``finite_volume.build_mesh``) at step tolerance ``rtol``."""
-    law = case.medium.nonlinear
+    ``finite_volume.build_mesh``) at step tolerance ``rtol``; with ``until_s`` no later than
+    that (clock time under a schedule), and with ``stop_when_met`` false always to it."""
+    reference = case.medium.diffusivity_m2_per_s
+    law = case.medium.nonlinear or NonlinearDiffusivity(d0=reference)
     criterion = case.criterion
-    assert law is not None and criterion is not None
+    assert criterion is not None
     body = case.body
     m = body.metric
     mirrored = mirrored_extent(case) is not None
@@ -62,11 +85,16 @@ def step_nonlinear(case: Case, faces: FloatArray, rtol: float) -> SteppedRun:
         (case.faces.outer, -1, faces[-1] - centres[-1]),
     )
     held = np.zeros(centres.size)
+    # each film: (its cell, face area over cell volume, film resistance, half-cell gap, value)
+    films: list[tuple[int, float, float, float, float]] = []
     for end, index, gap in ends:
         if end is None or (index == -1 and mirrored):
             continue
         if end.kind is SurfaceKind.FIXED_VALUE:
             held[index] += areas[index] / gap
+        elif end.biot > 0:
+            resistance = case.characteristic_length_m / (end.biot * reference)
+            films.append((index, areas[index] / volumes[index], resistance, gap, end.value))
     final = case.final_value
     phi_surface = float(law.kirchhoff(np.array(final)))
     start = case.start.moments(m, faces[:-1], faces[1:]) / volumes
@@ -97,14 +125,37 @@ def step_nonlinear(case: Case, faces: FloatArray, rtol: float) -> SteppedRun:
     def bounded(c: FloatArray) -> FloatArray:
         return np.minimum(np.maximum(c, low), high)
 
+    schedule = case.schedule
+    if schedule is not None:
+        arrhenius = schedule.law
+
+        def scale(t: float) -> float:
+            return arrhenius.diffusivity(schedule.temperature_k(t)) / reference
+    else:
+
+        def scale(t: float) -> float:
+            return 1.0
+
+    def film_conductance(film: tuple[int, float, float, float, float], s: float) -> float:
+        _, area_per_volume, resistance, gap, _ = film
+        return area_per_volume / (resistance + gap / (s * reference))
+
     def rhs(t: float, c: FloatArray) -> FloatArray:
+        s = scale(t)
         phi = law.kirchhoff(bounded(c))
         padded[1:-1] = inner_g * (phi[:-1] - phi[1:])  # from cell i to i + 1
-        return np.asarray((padded[:-1] - padded[1:]) / volumes + held_g * (phi_surface - phi))
+        out = s * ((padded[:-1] - padded[1:]) / volumes + held_g * (phi_surface - phi))
+        for film in films:
+            out[film[0]] += film_conductance(film, s) * (film[4] - c[film[0]])
+        return np.asarray(out)
 
     def jacobian(t: float, c: FloatArray) -> Tridiagonal:
-        d = law.diffusivity(bounded(c))
-        return Tridiagonal(lower_g * d[:-1], diagonal_g * d, upper_g * d[1:])
+        s = scale(t)
+        d = s * law.diffusivity(bounded(c))
+        diagonal = diagonal_g * d
+        for film in films:
+            diagonal[film[0]] -= film_conductance(film, s)
+        return Tridiagonal(lower_g * d[:-1], diagonal, upper_g * d[1:])
 
     weights = volumes / total
     # each measure of a state, as a ratio to its start
@@ -123,23 +174,30 @@ def step_nonlinear(case: Case, faces: FloatArray, rtol: float) -> SteppedRun:
     def event(c: FloatArray) -> float:
         return compared(c) - level
 
-    if event(start) <= 0:
-        return SteppedRun(0.0, {k: v for k, v in measures(start).items()}, centres.size)
+    cells = centres.size * (2 if mirrored else 1)
+    if stop_when_met and event(start) <= 0:
+        return SteppedRun(0.0, {k: v for k, v in measures(start).items()}, cells)
     run = integrate_to_event(
         rhs,
         jacobian,
         start,
-        event,
-        horizon_s=_HORIZON * case.diffusion_time_s,
+        event if stop_when_met else None,
+        horizon_s=until_s if until_s is not None else _HORIZON * case.diffusion_time_s,
+        # a millionth of the diffusion time (at D_ref, a schedule's fastest)
         first_step_s=1e-6 * case.diffusion_time_s,
         rtol=rtol,
         atol=rtol * max(max0, abs(final), 1e-300),
+        is_autonomous=schedule is None,
     )
-    time_s, state = run.time_s, run.state
-    reported: dict[str, float | None] = {k: v for k, v in measures(state).items()}
+    if not run.met and until_s is None:
+        raise NumericalFailure(
+            f"the time stepping did not reach the criterion within {_HORIZON:g} diffusion times"
+        )
+    reported: dict[str, float | None] = {k: v for k, v in measures(run.state).items()}
     if criterion.measure == "reaches":
-        reported["reaches"] = 0.0
-    return SteppedRun(time_s, reported, centres.size * (2 if mirrored else 1))
+        reported["reaches"] = 0.0 if run.met else None
+    shortfall = 0.0 if run.met and stop_when_met else event(run.state)
+    return SteppedRun(run.time_s, reported, cells, met=run.met, shortfall=shortfall)
 
 
 def _criterion(

@@ -481,6 +481,14 @@ class Case:
         )
 
     @property
+    def needs_stepping(self) -> bool:
+        """No eigen-expansion applies: a value-dependent diffusivity, or a surface film under
+        a temperature schedule (its Biot number moves with D)."""
+        return self.medium.nonlinear is not None or (
+            self.schedule is not None and any(end.biot > 0 for end in self.faces.ends)
+        )
+
+    @property
     def final_value(self) -> float:
         """The final state's mean over the body (its value, when uniform)."""
         state = self.final_state

@@ -17,7 +17,7 @@ scipy's ``exp1`` gives to round-off for every x where e^{−x} does not underflo
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 from scipy import optimize, special
 
@@ -93,6 +93,39 @@ class Schedule:
             range(len(self.segments))
         )
         return max(holds, key=lambda i: self.segments[i].end_k)
+
+    def temperature_k(self, clock_s: float) -> float:
+        """The schedule's temperature at ``clock_s`` (the last held beyond its end)."""
+        elapsed = 0.0
+        for segment in self.segments:
+            if clock_s <= elapsed + segment.duration_s:
+                share = (clock_s - elapsed) / segment.duration_s
+                return segment.start_k + max(share, 0.0) * (segment.end_k - segment.start_k)
+            elapsed += segment.duration_s
+        return self.segments[-1].end_k
+
+    def segment_at(self, clock_s: float) -> int | None:
+        """The segment ``clock_s`` falls in (the first of two it ends and starts), or None
+        beyond the schedule's end."""
+        elapsed = 0.0
+        for index, segment in enumerate(self.segments):
+            elapsed += segment.duration_s
+            if clock_s <= elapsed:
+                return index
+        return None
+
+    def with_soak_extended(self, extra_s: float) -> Schedule:
+        """The same schedule with its soak (``soak``) held ``extra_s`` longer, the later
+        segments shifted (a soak that is a ramp is followed by a hold at its end instead)."""
+        segments = list(self.segments)
+        soak = segments[self.soak]
+        if soak.hold:
+            segments[self.soak] = replace(soak, duration_s=soak.duration_s + extra_s)
+        else:
+            segments.insert(
+                self.soak + 1, ScheduleSegment(soak.end_k, soak.end_k, extra_s, hold=True)
+            )
+        return replace(self, segments=tuple(segments))
 
     def reduced(self, clock_s: float) -> float:
         """∫D dt from the schedule's start to ``clock_s`` (the last segment's end temperature

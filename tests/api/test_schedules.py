@@ -142,7 +142,7 @@ def test_schedule_ending_first_says_how_much_longer_the_soak_needs(client: TestC
                 "schedule": [{"start_at": "900 degC"}, {"hold": "1 h", "at": "900 degC"}],
                 "surface": {"kind": "convective", "biot": 2, "ambient": 1},
             },
-            "/surface",
+            "/surface/biot",
         ),
     ],
 )
