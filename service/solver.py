@@ -85,6 +85,16 @@ _LAYERED = (
     "properties, in contact at its interfaces (through the interface resistance if given)."
 )
 _STEADY_SURROUNDINGS = "The surroundings do not change over time."
+_SCHEDULED_SURROUNDINGS = (
+    "The surroundings follow the schedule given, in clock time; the body is judged against "
+    "the value they end at, and the time is the first at which the criterion is met."
+)
+
+
+def _surroundings_assumption(case: Case) -> str:
+    if case.bath is not None:
+        return _STIRRED_BATH
+    return _STEADY_SURROUNDINGS if case.surroundings is None else _SCHEDULED_SURROUNDINGS
 _SEMI_INFINITE = (
     "The body is semi-infinite: deep enough that its far side does not matter by the answer "
     "(the erfc solution)."
@@ -218,7 +228,7 @@ def _interpret(
 
 def _assumptions(case: Case, facts: Facts) -> list[str]:
     assumptions = [_LAYERED if case.body.layers else _HOMOGENEOUS, *_ASSUMPTIONS]
-    assumptions.append(_STIRRED_BATH if case.bath is not None else _STEADY_SURROUNDINGS)
+    assumptions.append(_surroundings_assumption(case))
     if not case.faces.exchanging and case.body.geometry is not Geometry.SLAB:
         assumptions.append(_RADIAL_SEALED)
     if case.medium.partition != 1.0 and any(
@@ -262,9 +272,10 @@ _STEPPED_TRANSPORT = {
     "on the value as given (stepped in time with the Kirchhoff transform Φ = ∫D dc: the flux "
     "is −∇Φ); the Fourier number is on D at the final value.",
     "schedule": "Transport by diffusion only; the whole body follows the schedule's temperature "
-    "and D(T) its Arrhenius law, while the surface film's transfer coefficient stays as given, "
-    "so its Biot number changes with D and reduced time does not separate the problem: "
-    "stepped in clock time. The Fourier number is ∫D dt / Lc².",
+    "and D(T) its Arrhenius law, while a surface film's transfer coefficient stays as given "
+    "(its Biot number changes with D) or the surroundings keep their own clock, so reduced "
+    "time does not separate the problem: stepped in clock time. The Fourier number is "
+    "∫D dt / Lc².",
 }
 
 # The steady profiles' forms, per metric exponent (x and r in metres).
@@ -568,7 +579,11 @@ class Solver:
             warnings += schedule_warnings
         return SettlingAnswer(
             time_s=time_s,
-            definition="first_crossing" if criterion.measure == "reaches" else "monotone",
+            definition=(
+                "first_crossing"
+                if criterion.measure == "reaches" or case.surroundings is not None
+                else "monotone"
+            ),
             fourier_number=_reduced_seconds(case, fine, time_s) / case.diffusion_time_s,
             final_value=facts.final_value,
             slowest_rate_per_s=None,
@@ -583,7 +598,7 @@ class Solver:
             assumptions=[
                 _STEPPED_TRANSPORT["nonlinear" if case.medium.nonlinear else "schedule"],
                 *_ASSUMPTIONS,
-                _STEADY_SURROUNDINGS,
+                _surroundings_assumption(case),
                 describe_final_state(case),
             ],
             cautions=list(CAUTIONS),

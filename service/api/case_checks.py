@@ -127,9 +127,9 @@ def _request_surfaces(request: rq.CaseRequest) -> list[tuple[str, rq.Surface]]:
 
 
 def _check_stepped_schedule(request: rq.CaseRequest, case: Case) -> None:
-    """A surface film under a temperature schedule is stepped in clock time: one homogeneous
-    body on its own, every exchanging end toward one value, judged by a measure the stepping
-    offers."""
+    """A surface film, or surroundings with their own schedule, under a temperature schedule
+    are stepped in clock time: one homogeneous body on its own, every exchanging end toward
+    one value, judged by a measure the stepping offers."""
     checks = [
         (
             case.bath is not None,
@@ -139,9 +139,8 @@ def _check_stepped_schedule(request: rq.CaseRequest, case: Case) -> None:
         (
             case.semi_infinite is not None
             or case.product is not None
-            or case.surroundings is not None
             or case.medium.reaction_per_s > 0,
-            "a slab, cylinder or sphere in unchanging surroundings, without reaction",
+            "a slab, cylinder or sphere without reaction",
             "/body",
         ),
         (
@@ -153,13 +152,15 @@ def _check_stepped_schedule(request: rq.CaseRequest, case: Case) -> None:
     for failed, needs, pointer in checks:
         if failed:
             raise InvalidInput(
-                f"a surface film under a temperature schedule is stepped in time, for {needs}",
+                "a surface film or changing surroundings under a temperature schedule are "
+                f"stepped in time, for {needs}",
                 pointer,
             )
     criterion = case.criterion
     if criterion is not None and criterion.measure not in _NONLINEAR_MEASURES:
         raise InvalidInput(
-            "a surface film under a temperature schedule is stepped in time and judged by "
+            "a surface film or changing surroundings under a temperature schedule are stepped "
+            "in time and judged by "
             + ", ".join(_NONLINEAR_MEASURES),
             "/criterion/measure",
         )
@@ -325,11 +326,8 @@ def _check_surroundings(request: rq.CaseRequest, case: Case) -> None:
     checks = [
         (request.surface is None, "the same surface on every face ('surface')", "/faces"),
         (
-            case.bath is not None
-            or case.schedule is not None
-            or case.semi_infinite is not None
-            or case.product is not None,
-            "a body in surroundings it does not change, without a temperature schedule",
+            case.bath is not None or case.semi_infinite is not None or case.product is not None,
+            "a slab, cylinder or sphere without a bath",
             "/surface",
         ),
     ]

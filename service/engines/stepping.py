@@ -20,7 +20,8 @@ Under a schedule the flux is scaled by s(t) = D(T(t))/D_ref in clock time, and a
 end passes (value − c)·A/(R_film + gap/(s·D_ref)) to its cell, the film resistance
 R_film = Lc/(Bi·D_ref) (Bi on D_ref, so R_film = 1/k_eff stays fixed while D moves); the
 system is then non-autonomous and the stepper adds its time derivative. Films are stepped for
-a constant D only (the API refuses them with D(c)).
+a constant D only (the API refuses them with D(c)). Surroundings that follow their own
+schedule in clock time set the held value and the films' value at each time.
 """
 
 from __future__ import annotations
@@ -140,13 +141,19 @@ def step_in_time(
         _, area_per_volume, resistance, gap, _ = film
         return area_per_volume / (resistance + gap / (s * reference))
 
+    surroundings = case.surroundings
+
     def rhs(t: float, c: FloatArray) -> FloatArray:
         s = scale(t)
         phi = law.kirchhoff(bounded(c))
         padded[1:-1] = inner_g * (phi[:-1] - phi[1:])  # from cell i to i + 1
-        out = s * ((padded[:-1] - padded[1:]) / volumes + held_g * (phi_surface - phi))
+        held_phi = phi_surface
+        if surroundings is not None:
+            held_phi = float(law.kirchhoff(np.array(surroundings.value_at(t))))
+        out = s * ((padded[:-1] - padded[1:]) / volumes + held_g * (held_phi - phi))
         for film in films:
-            out[film[0]] += film_conductance(film, s) * (film[4] - c[film[0]])
+            value = film[4] if surroundings is None else surroundings.value_at(t)
+            out[film[0]] += film_conductance(film, s) * (value - c[film[0]])
         return np.asarray(out)
 
     def jacobian(t: float, c: FloatArray) -> Tridiagonal:
@@ -187,7 +194,7 @@ def step_in_time(
         first_step_s=1e-6 * case.diffusion_time_s,
         rtol=rtol,
         atol=rtol * max(max0, abs(final), 1e-300),
-        is_autonomous=schedule is None,
+        is_autonomous=schedule is None and surroundings is None,
     )
     if not run.met and until_s is None:
         raise NumericalFailure(

@@ -366,6 +366,15 @@ class SurroundingsSchedule:
     def end_s(self) -> float:
         return sum(duration for _, duration in self.segments)
 
+    def value_at(self, time_s: float) -> float:
+        """The surroundings' value at ``time_s`` (after a jump, its new value)."""
+        value, elapsed = self.start_value, 0.0
+        for end_value, duration in self.segments:
+            if time_s < elapsed + duration:
+                return value + (end_value - value) * (time_s - elapsed) / duration
+            value, elapsed = end_value, elapsed + duration
+        return value
+
 
 @dataclass(frozen=True)
 class Criterion:
@@ -482,10 +491,12 @@ class Case:
 
     @property
     def needs_stepping(self) -> bool:
-        """No eigen-expansion applies: a value-dependent diffusivity, or a surface film under
-        a temperature schedule (its Biot number moves with D)."""
+        """No eigen-expansion applies: a value-dependent diffusivity, or under a temperature
+        schedule a surface film (its Biot number moves with D) or surroundings that change in
+        clock time (reduced time would bend their schedule)."""
         return self.medium.nonlinear is not None or (
-            self.schedule is not None and any(end.biot > 0 for end in self.faces.ends)
+            self.schedule is not None
+            and (self.surroundings is not None or any(end.biot > 0 for end in self.faces.ends))
         )
 
     @property

@@ -133,3 +133,31 @@ def test_a_short_schedule_says_how_long_the_soak_must_grow(client: TestClient) -
     end_s = (5 + 10 + extra_h + 3) * 3600
     assert again["time_s"] == pytest.approx(end_s, rel=5e-4)
     assert body["time_s"] == pytest.approx(end_s, rel=1e-9)
+
+
+def test_surroundings_ramping_under_a_one_hold_schedule_is_the_exact_superposition(
+    client: TestClient,
+) -> None:
+    """Under a one-hold temperature schedule, surroundings ramping 0 → 1 over 20 h are stepped
+    in clock time; at the hold's constant D the eigen path applies the same ramp exactly by
+    superposition in time (Duhamel) — two independent routes."""
+    ramped = {
+        "kind": "convective",
+        "transfer_coefficient": f"{FILM_M_PER_S} m/s",
+        "ambient": [{"start_at": 0}, {"ramp_to": 1, "over": "20 h"}],
+    }
+    held = {"kind": "fixed_value", "value": [{"start_at": 0}, {"ramp_to": 1, "over": "20 h"}]}
+    criterion = {"measure": "mean_square_deviation", "tolerance": 1e-3}
+    for surface in (ramped, held):
+        stepped = _post(
+            client,
+            surface=surface,
+            criterion=criterion,
+            schedule=[{"start_at": "1000 degC"}, {"hold": "2000 h", "at": "1000 degC"}],
+        )
+        exact = _post(
+            client, surface=surface, criterion=criterion, medium={"diffusivity": f"{D_REF} m^2/s"}
+        )
+        assert stepped["method"]["path"] == "time_stepping"
+        assert exact["method"]["path"] == "eigen"
+        assert stepped["time_s"] == pytest.approx(exact["time_s"], rel=2e-4)
