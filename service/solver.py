@@ -32,7 +32,17 @@ from service.measures import (
     build_measure,
     defined_measures,
 )
-from service.physics import Body, Case, Faces, Geometry, Start, SurfaceKind
+from service.physics import (
+    Body,
+    Case,
+    Criterion,
+    Faces,
+    Geometry,
+    Medium,
+    Start,
+    Surface,
+    SurfaceKind,
+)
 from service.settling import find_settling_time
 
 __all__ = [
@@ -71,7 +81,15 @@ WARNING_CODES: dict[str, str] = {
     "fell to the accuracy asked",
     "schedule_too_short": "a temperature schedule ends before the criterion is met; the answer "
     "extends its soak (its hottest hold) by the time given",
+    "furnace_lag": "the part's own thermal settling time is a sizeable fraction of the soak: its "
+    "interior lags the furnace, so the diffusion in it runs behind the schedule",
 }
+
+# The part is said to lag the furnace when its thermal settling time (the whole section within
+# this fraction of a step in surface temperature, every surface held) exceeds this share of
+# the soak.
+LAG_SETTLED = 0.01
+LAG_SHARE = 0.1
 
 _ASSUMPTIONS = (
     "No flow, stirring or convection inside the body; any of these would make the real time "
@@ -95,6 +113,8 @@ def _surroundings_assumption(case: Case) -> str:
     if case.bath is not None:
         return _STIRRED_BATH
     return _STEADY_SURROUNDINGS if case.surroundings is None else _SCHEDULED_SURROUNDINGS
+
+
 _SEMI_INFINITE = (
     "The body is semi-infinite: deep enough that its far side does not matter by the answer "
     "(the erfc solution)."
@@ -323,9 +343,13 @@ def _stepped_time(
                 return step_in_time(case, faces, rtol, until_s=schedule.duration_s)
             high, step = low, 4 * step
             low = max(low - step, 0.0)
-    limit = SOAK_SEARCH_LIMIT * case.diffusion_time_s * (
-        case.medium.diffusivity_m2_per_s
-        / schedule.law.diffusivity(schedule.segments[schedule.soak].end_k)
+    limit = (
+        SOAK_SEARCH_LIMIT
+        * case.diffusion_time_s
+        * (
+            case.medium.diffusivity_m2_per_s
+            / schedule.law.diffusivity(schedule.segments[schedule.soak].end_k)
+        )
     )
     while at_end(high) > 0:
         low, high, step = high, high + step, 4 * step
@@ -491,6 +515,48 @@ class Solver:
             raise
         return engine
 
+    def furnace_lag(self, case: Case) -> tuple[list[tuple[str, str]], str]:
+        """Whether the part keeps pace with its schedule: (warnings, an assumption line). The
+        part's thermal settling time is that of its section with every surface held at a new
+        temperature until the whole is within 1 % of it, a lower bound (a furnace heats
+        through a film, which is slower)."""
+        schedule = case.schedule
+        assert schedule is not None
+        alpha = schedule.thermal_diffusivity_m2_per_s
+        if alpha is None:
+            return [], (
+                "The whole body is taken at the schedule's temperature at every moment; give "
+                "medium.thermal_diffusivity to have its lag behind the furnace checked."
+            )
+        body = case.body
+        thermal = Case(
+            body=body,
+            medium=Medium(alpha),
+            start=Start.uniform(body.extent_m, 0.0, body.inner_m),
+            faces=Faces.alike(body, Surface(SurfaceKind.FIXED_VALUE, 1.0)),
+            criterion=Criterion("max_deviation", tolerance=LAG_SETTLED),
+        )
+        lag_s = self.settle(thermal).time_s
+        soak = schedule.segments[schedule.soak].duration_s
+        text = (
+            f"the section's thermal settling time (within {LAG_SETTLED:.0%} of a step in surface "
+            f"temperature, α = {alpha:.3g} m²/s, every surface held) is {format_time(lag_s)}, "
+            f"{lag_s / soak:.0%} of the {format_time(soak)} soak"
+        )
+        if lag_s > LAG_SHARE * soak:
+            return [
+                (
+                    "furnace_lag",
+                    f"{text}: the interior lags the furnace, so the diffusion there runs behind "
+                    "the schedule and the time given is too short; a film between furnace and "
+                    "part makes the lag longer still",
+                )
+            ], "The whole body is taken at the schedule's temperature at every moment."
+        return [], (
+            f"The whole body is taken at the schedule's temperature at every moment: {text}, "
+            "small enough for that."
+        )
+
     def is_quick(self, case: Case) -> bool:
         """Whether ``case`` is answered by the series engine from a start of few pieces, which
         takes well under a millisecond (a few milliseconds at most, for very early answers)."""
@@ -574,9 +640,12 @@ class Solver:
                 )
             )
         schedule = None
+        lag_assumptions: list[str] = []
         if case.schedule is not None:
             schedule, schedule_warnings = _stepped_schedule_answer(case, time_s)
-            warnings += schedule_warnings
+            lag_warnings, lag_assumption = self.furnace_lag(case)
+            warnings += schedule_warnings + lag_warnings
+            lag_assumptions.append(lag_assumption)
         return SettlingAnswer(
             time_s=time_s,
             definition=(
@@ -600,6 +669,7 @@ class Solver:
                 *_ASSUMPTIONS,
                 _surroundings_assumption(case),
                 describe_final_state(case),
+                *lag_assumptions,
             ],
             cautions=list(CAUTIONS),
             path="time_stepping",
@@ -787,6 +857,7 @@ class Solver:
         biot = common_biot(case)
         fourier = time_s / case.diffusion_time_s
         schedule = None
+        lag_assumptions: list[str] = []
         if case.schedule is not None:
             # the engines ran at D_ref in reference time; ∫D dt = D_ref·t_ref is exact
             reduced = time_s * case.medium.diffusivity_m2_per_s
@@ -800,6 +871,9 @@ class Solver:
                         f"{format_time(extra)} more at its temperature",
                     )
                 )
+            lag_warnings, lag_assumption = self.furnace_lag(case)
+            warnings += lag_warnings
+            lag_assumptions.append(lag_assumption)
         return SettlingAnswer(
             time_s=time_s,
             definition=crossing.definition,
@@ -825,7 +899,7 @@ class Solver:
                 else None
             ),
             warnings=warnings,
-            assumptions=_assumptions(case, facts),
+            assumptions=_assumptions(case, facts) + lag_assumptions,
             cautions=list(CAUTIONS),
         )
 

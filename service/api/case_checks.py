@@ -8,9 +8,7 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 
-from service.api.ranges import (
-    SEMI_INFINITE_REFERENCE_M,
-)
+from service.api.ranges import DIFFUSIVITY_RANGE_M2_PER_S, SEMI_INFINITE_REFERENCE_M
 from service.api.translate_surfaces import _boundary_pointer
 from service.errors import InvalidInput
 from service.models import requests as rq
@@ -88,10 +86,30 @@ def _medium_and_schedule(
             "/medium/arrhenius",
         )
     if request.temperature is not None:
+        if request.medium.thermal_diffusivity is not None:
+            raise InvalidInput(
+                "'thermal_diffusivity' checks how a part follows a furnace 'schedule'; at one "
+                "'temperature' there is nothing to follow",
+                "/medium/thermal_diffusivity",
+            )
         kelvin = translator.temperature(request.temperature, "/temperature")
         return translator.medium(request.medium, diffusivity_given=law.diffusivity(kelvin)), None
     assert request.schedule is not None
     schedule = translator.schedule(request.schedule, law)
+    if request.medium.thermal_diffusivity is not None:
+        if translator.semi_infinite or translator.periodic_cell_m is not None:
+            raise InvalidInput(
+                "'thermal_diffusivity' checks how the part's section follows the furnace; a "
+                "semi-infinite body or a segregation cell is not the part's section",
+                "/medium/thermal_diffusivity",
+            )
+        alpha = translator.quantity(
+            request.medium.thermal_diffusivity,
+            "diffusivity",
+            DIFFUSIVITY_RANGE_M2_PER_S,
+            "/medium/thermal_diffusivity",
+        )
+        schedule = replace(schedule, thermal_diffusivity_m2_per_s=alpha)
     medium = translator.medium(request.medium, diffusivity_given=schedule.reference_diffusivity)
     return medium, schedule
 
@@ -160,8 +178,7 @@ def _check_stepped_schedule(request: rq.CaseRequest, case: Case) -> None:
     if criterion is not None and criterion.measure not in _NONLINEAR_MEASURES:
         raise InvalidInput(
             "a surface film or changing surroundings under a temperature schedule are stepped "
-            "in time and judged by "
-            + ", ".join(_NONLINEAR_MEASURES),
+            "in time and judged by " + ", ".join(_NONLINEAR_MEASURES),
             "/criterion/measure",
         )
 

@@ -38,6 +38,12 @@ class MediaMixin(TranslatorBase):
     ) -> Medium:
         """The medium; ``diffusivity_given`` stands in for the diffusivity when it follows
         from an Arrhenius law at the case's temperature."""
+        if request.thermal_diffusivity is not None and request.arrhenius is None:
+            raise InvalidInput(
+                "'thermal_diffusivity' goes with an 'arrhenius' medium under a 'schedule' (for "
+                "heat, give it as 'diffusivity')",
+                at + "/thermal_diffusivity",
+            )
         conductivity = (
             self.quantity(
                 request.conductivity, "conductivity", CONDUCTIVITY_RANGE, at + "/conductivity"

@@ -157,6 +157,12 @@ class Medium(_Strict):
         description="A diffusivity that follows the temperature (with a top-level "
         "'temperature' or 'schedule'), in place of 'diffusivity'.",
     )
+    thermal_diffusivity: Quantity | None = Field(
+        None,
+        description="The part's thermal diffusivity α (m^2/s, or 'number unit'), with "
+        "'arrhenius' under a 'schedule': the answer then warns when the part's own thermal "
+        "settling time is a sizeable fraction of the soak (its interior lags the furnace).",
+    )
     partition: float | None = Field(
         None,
         gt=0,

@@ -67,10 +67,12 @@ class ScheduleSegment:
 
 @dataclass(frozen=True)
 class Schedule:
-    """A temperature schedule and the Arrhenius law the body's diffusivity follows."""
+    """A temperature schedule and the Arrhenius law the body's diffusivity follows; the part's
+    thermal diffusivity, when known, says how closely it can follow the furnace."""
 
     law: Arrhenius
     segments: tuple[ScheduleSegment, ...]
+    thermal_diffusivity_m2_per_s: float | None = None
 
     @property
     def duration_s(self) -> float:

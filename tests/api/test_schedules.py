@@ -152,3 +152,50 @@ def test_schedule_errors_name_the_field(
     response = client.post("/v1/settling-time", json={**CASE, **request_change})
     assert response.status_code == 422, response.text
     assert pointer in [e["pointer"] for e in response.json()["errors"]]
+
+
+# A 200 mm steel section, α = 5e-6 m²/s (an illustrative input): held at a new temperature on
+# both faces, its centre is within 1 % of it when (4/π)·exp(−π²·Fo/4) = 0.01 (the slab's first
+# series term, Carslaw & Jaeger, Conduction of Heat in Solids, 2nd ed., §3.3; the second term is
+# below 1e-18 there), Fo = (4/π²)·ln(400/π) = 1.96431, t = Fo·(0.1 m)²/α = 3928.6 s = 1.0913 h.
+# The answer warns when that exceeds a tenth of the soak: soaks of 10.8 h and 11.0 h straddle it.
+LAG_THRESHOLD_SOAK_H = 10 * (4 / math.pi**2) * math.log(400 / math.pi) * 0.1**2 / 5e-6 / 3600
+
+
+@pytest.mark.parametrize(("soak_h", "lags"), [(10.8, True), (11.0, False)])
+def test_a_thick_section_lags_the_furnace(client: TestClient, soak_h: float, lags: bool) -> None:
+    assert 10.8 < LAG_THRESHOLD_SOAK_H < 11.0
+    body = _post(
+        client,
+        body={"shape": "slab", "thickness": "200 mm"},
+        medium={"arrhenius": LAW, "thermal_diffusivity": "5e-6 m^2/s"},
+        schedule=[{"start_at": "1100 degC"}, {"hold": f"{soak_h} h", "at": "1100 degC"}],
+        criterion={"measure": "fraction_equilibrated", "fraction": 0.01},
+    )
+    codes = [w["code"] for w in body["warnings"]]
+    assert ("furnace_lag" in codes) is lags
+    assert any("schedule's temperature at every moment" in a for a in body["assumptions"])
+
+
+@pytest.mark.parametrize(
+    ("change", "pointer"),
+    [
+        (
+            {
+                "medium": {"arrhenius": LAW, "thermal_diffusivity": "5e-6 m^2/s"},
+                "temperature": "900 degC",
+            },
+            "/medium/thermal_diffusivity",
+        ),
+        (
+            {"medium": {"diffusivity": "1e-10 m^2/s", "thermal_diffusivity": "5e-6 m^2/s"}},
+            "/medium/thermal_diffusivity",
+        ),
+    ],
+)
+def test_thermal_diffusivity_goes_with_a_schedule(
+    client: TestClient, change: dict[str, Any], pointer: str
+) -> None:
+    response = client.post("/v1/settling-time", json={**CASE, **change})
+    assert response.status_code == 422, response.text
+    assert pointer in [e["pointer"] for e in response.json()["errors"]]
