@@ -9,7 +9,7 @@ from typing import Any
 from fastapi import FastAPI
 
 from service import __version__
-from service.api import estimates, health, history
+from service.api import depths, estimates, health, history
 from service.api.problems import MEDIA_TYPE as PROBLEM_MEDIA_TYPE
 from service.api.problems import install_problem_handlers
 from service.settings import Settings, get_settings
@@ -20,7 +20,11 @@ __all__ = ["app", "create_app", "load_examples"]
 
 EXAMPLES_DIR = Path(__file__).resolve().parent.parent / "openapi_examples"
 # Request files are named <endpoint>.<scenario>.json; the endpoint part maps to a path.
-_EXAMPLE_PATHS = {"settling-time": "/v1/settling-time", "history": "/v1/history"}
+_EXAMPLE_PATHS = {
+    "settling-time": "/v1/settling-time",
+    "history": "/v1/history",
+    "depth": "/v1/depth",
+}
 
 _DESCRIPTION = (
     """\
@@ -86,6 +90,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.state.units = Units()
     app.include_router(estimates.router)
     app.include_router(history.router)
+    app.include_router(depths.router)
     app.include_router(health.router)
     install_problem_handlers(app)
     _customise_openapi(app, load_examples())

@@ -13,6 +13,7 @@ import numpy as np
 from numpy.typing import NDArray
 from scipy import optimize
 
+from service.depth import DepthAxis, depth_axis, depth_on
 from service.engines import Crossing, Engine, ModalSolution, SeriesEngine, make_engines
 from service.engines.common import (
     FOURIER_FLOOR,
@@ -21,7 +22,7 @@ from service.engines.common import (
     exchange_intervals,
     interval_index,
 )
-from service.engines.finite_volume import build_mesh, three_grid_estimate
+from service.engines.finite_volume import FiniteVolumeEngine, build_mesh, three_grid_estimate
 from service.engines.stepping import SteppedRun, step_in_time
 from service.errors import InvalidInput, NotApplicable, NumericalFailure
 from service.lumped import LUMPED_BIOT, LumpedAnswer, classical_biot, lumped_answer
@@ -81,6 +82,8 @@ WARNING_CODES: dict[str, str] = {
     "fell to the accuracy asked",
     "schedule_too_short": "a temperature schedule ends before the criterion is met; the answer "
     "extends its soak (its hottest hold) by the time given",
+    "semi_infinite_beyond_validity": "D·t over the real thickness squared is above 0.05: the "
+    "far side already matters and a slab of that thickness should be used",
     "furnace_lag": "the part's own thermal settling time is a sizeable fraction of the soak: its "
     "interior lags the furnace, so the diffusion in it runs behind the schedule",
 }
@@ -186,6 +189,25 @@ class Snapshot:
 
 
 @dataclass(frozen=True)
+class DepthAnswer:
+    """How deep a value is reached at one time (``depth_m`` None when nowhere)."""
+
+    depth_m: float | None
+    measured_from: str
+    profile_range: tuple[float, float]
+    fourier_number: float
+    # the echoed Lc and its convention (a semi-infinite body's is the depth found, or the
+    # diffusion length √(D·t) when the value is reached nowhere)
+    length_m: float
+    length_convention: str
+    engine: str
+    resolution: int
+    estimated_relative_error: float | None
+    warnings: list[tuple[str, str]]
+    assumptions: list[str]
+
+
+@dataclass(frozen=True)
 class HistoryAnswer:
     times_s: list[float]
     measures: dict[str, list[float | None]]
@@ -278,6 +300,11 @@ NONLINEAR_RTOL_PER_ACCURACY = 1.0
 NONLINEAR_TIGHTER = 4.0
 NONLINEAR_MIN_RTOL = 1e-11
 NONLINEAR_STEPPING_SAFETY = 3.0
+
+# A depth query on finite volumes: the finest of the first three nested grids has this many
+# cells, doubled until the depth's estimate meets the accuracy, never past the cap.
+DEPTH_FIRST_CELLS = 128
+DEPTH_MAX_CELLS = 4096
 
 # Soak lengthening beyond this many diffusion times (at the soak's D) is given up; a
 # lengthening found on one grid brackets the next grid's search within this fraction; the
@@ -556,6 +583,124 @@ class Solver:
             f"The whole body is taken at the schedule's temperature at every moment: {text}, "
             "small enough for that."
         )
+
+    def depth(
+        self, case: Case, at_s: float, value: float, surface_pointer: str = "/surface"
+    ) -> DepthAnswer:
+        """The shallowest depth below the exchanging surface where the body-side value is
+        ``value`` at clock time ``at_s`` (``service.depth``), with its estimated error: from the
+        series' tail bound over the profile's slope there, or from three nested grids."""
+        refusals = [
+            (case.needs_stepping, "time-stepped cases", "/medium"),
+            (case.product is not None, "bars, blocks and short cylinders", "/body"),
+            (case.surroundings is not None, "surroundings that follow a schedule", "/surface"),
+            (
+                case.bath is not None and bool(case.bath.exchanges_s),
+                "bath exchanges",
+                "/bath/exchanges",
+            ),
+        ]
+        for refused, what, pointer in refusals:
+            if refused:
+                raise InvalidInput(f"depth queries are not offered here for {what}", pointer)
+        reference = case.medium.diffusivity_m2_per_s
+        time_s = at_s
+        if case.schedule is not None:
+            time_s = case.schedule.reduced(at_s) / reference
+        warnings: list[tuple[str, str]] = []
+        work, axis = case, None
+        if case.semi_infinite is not None:
+            half = SEMI_INFINITE_DEPTHS * math.sqrt(reference * time_s)
+            work = _as_deep_slab(case, half)
+            axis = depth_axis(work, range_m=half / 2)
+            thickness = case.semi_infinite.real_thickness_m
+            if thickness is not None and reference * time_s / thickness**2 > SEMI_INFINITE_FO:
+                warnings.append(
+                    (
+                        "semi_infinite_beyond_validity",
+                        f"by then D·t/thickness² = {reference * time_s / thickness**2:.3g} for "
+                        f"the real {thickness:.3g} m: above {SEMI_INFINITE_FO}, its far side "
+                        "already matters and a slab of that thickness should be used",
+                    )
+                )
+        axis = axis or depth_axis(work, pointer=surface_pointer)
+        earliest = FOURIER_FLOOR * work.diffusion_time_s
+        if time_s < earliest:
+            raise InvalidInput(
+                f"that is earlier than Fo = {FOURIER_FLOOR:g} ({earliest:.3g} s at D here), the "
+                "earliest time the engines resolve",
+                "/at",
+            )
+        engine = self._engine(work)
+        if isinstance(engine, SeriesEngine):
+            solution = engine.solution(work, time_s)
+            depth, spread, slope = depth_on(work, solution, time_s, value, axis)
+            error: float | None = None
+            if depth is not None:
+                assert solution.tail is not None
+                bound = solution.tail(time_s).sup * float(
+                    np.max(work.partition_at(axis.positions(np.array([depth]))))
+                )
+                error = bound / (slope * depth) if depth > 0 and slope > 0 else 0.0
+            resolution, engine_name = solution.resolution, solution.engine
+        else:
+            depth, spread, error, resolution = self._depth_on_grids(work, time_s, value, axis)
+            engine_name = "finite_volume"
+        if error is not None and error > case.accuracy:
+            warnings.append(
+                (
+                    "resolution_capped",
+                    f"the depth's estimated error, {error:.2g} of it, is above the accuracy asked",
+                )
+            )
+        assumptions = _assumptions(work, Facts.of(work))
+        length, convention = case.characteristic_length_m, case.length_convention
+        if case.semi_infinite is not None:
+            assumptions = [*assumptions[:-1], _SEMI_INFINITE]
+            length, convention = (
+                (depth, "depth") if depth else (math.sqrt(reference * time_s), "diffusion_length")
+            )
+        return DepthAnswer(
+            depth_m=depth,
+            measured_from="surface" if case.semi_infinite is not None else axis.name,
+            profile_range=spread,
+            fourier_number=reference * time_s / length**2,
+            length_m=length,
+            length_convention=convention,
+            engine=engine_name,
+            resolution=resolution,
+            estimated_relative_error=error,
+            warnings=warnings,
+            assumptions=assumptions,
+        )
+
+    def _depth_on_grids(
+        self, case: Case, time_s: float, value: float, axis: DepthAxis
+    ) -> tuple[float | None, tuple[float, float], float | None, int]:
+        """The depth on three nested finite-volume grids (graded toward the surfaces when the
+        diffusion length is short), doubled until the estimate meets the accuracy."""
+        engine = self.engines["finite_volume"]
+        assert isinstance(engine, FiniteVolumeEngine)
+        reach = math.sqrt(case.medium.diffusivity_m2_per_s * time_s)
+        length = reach if reach < 0.25 * case.body.wall_m else None
+        cells = DEPTH_FIRST_CELLS
+        while True:
+            faces = build_mesh(case, cells, length)
+            found = [
+                depth_on(case, engine.solution_on(case, faces[::scale]), time_s, value, axis)
+                for scale in (4, 2, 1)
+            ]
+            depths = [f[0] for f in found]
+            spread = found[-1][1]
+            if any(d is None for d in depths):
+                return depths[-1], spread, None, faces.size - 1
+            coarsest, coarse, fine = (float(d) for d in depths if d is not None)
+            # the profile between cell centres is linear: its error is not smooth in the cell
+            # size, so the fine grid is reported with its grid convergence index
+            depth, error, _ = three_grid_estimate(fine, coarse, coarsest, extrapolate=False)
+            if error <= case.accuracy or 2 * cells > DEPTH_MAX_CELLS:
+                return depth, spread, error, faces.size - 1
+            cells *= 2
 
     def is_quick(self, case: Case) -> bool:
         """Whether ``case`` is answered by the series engine from a start of few pieces, which

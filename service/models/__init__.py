@@ -4,11 +4,13 @@ from __future__ import annotations
 
 from service.models.requests import (
     CaseRequest,
+    DepthRequest,
     HistoryRequest,
     PositionSpec,
     SettlingRequest,
 )
 from service.models.responses import (
+    DepthResponse,
     FinalStateOut,
     HistoryResponse,
     LumpedOut,
@@ -22,6 +24,8 @@ from service.models.responses import (
 
 __all__ = [
     "CaseRequest",
+    "DepthRequest",
+    "DepthResponse",
     "FinalStateOut",
     "HistoryRequest",
     "HistoryResponse",

@@ -663,6 +663,18 @@ class SettlingRequest(CaseRequest):
     criterion: Criterion
 
 
+class DepthRequest(CaseRequest):
+    """At a given time, how deep below the surface a value is reached (a case depth)."""
+
+    at: Quantity = Field(
+        description="The time (s, or 'number unit'); under a 'schedule', clock time in it."
+    )
+    value: float = Field(
+        allow_inf_nan=False,
+        description="The value whose depth is asked, in the body's value units (body-side).",
+    )
+
+
 class HistoryRequest(CaseRequest):
     criterion: Criterion | None = None
     times: list[Annotated[float, Field(gt=0, allow_inf_nan=False, le=1e15)]] | None = Field(

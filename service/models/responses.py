@@ -180,6 +180,33 @@ class SettlingResponse(BaseModel):
     cautions: list[str]
 
 
+class DepthResponse(BaseModel):
+    depth_m: float | None = Field(
+        description="The shallowest depth below the surface named in 'measured_from' where the "
+        "value is reached at that time; null when it is reached nowhere."
+    )
+    time_s: float
+    value: float
+    measured_from: str = Field(
+        description="The surface the depth is measured from: 'surface' (semi-infinite), "
+        "'first_face' or 'second_face' (slab), 'outer_surface' (cylinder, sphere)."
+    )
+    profile_range: tuple[float, float] = Field(
+        description="The lowest and highest value across the body at that time (for a "
+        "semi-infinite body, down to 6·√(D·t))."
+    )
+    fourier_number: float = Field(description="D·t/Lc² (∫D dt/Lc² under a schedule).")
+    characteristic_length_m: float = Field(
+        description="The body's Lc; for a semi-infinite body the depth found (or √(D·t))."
+    )
+    length_convention: str
+    diffusivity_m2_per_s: float
+    method: Method
+    warnings: list[WarningOut]
+    assumptions: list[str]
+    cautions: list[str]
+
+
 class SnapshotOut(BaseModel):
     time_s: float
     positions_m: list[float]

@@ -41,6 +41,10 @@ def test_examples_give_sane_answers(client: TestClient, path: Path) -> None:
         assert 0 < body["time_s"] < 1e9
         assert body["method"]["estimated_relative_error"] <= 1e-4
         assert body["cautions"]
+    elif endpoint == "/v1/depth":
+        assert 0 < body["depth_m"] < 1
+        assert body["method"]["estimated_relative_error"] <= 1e-4
+        assert body["cautions"]
     else:
         assert len(body["times_s"]) == example["value"].get("time_count", len(body["times_s"]))
         assert body["snapshots"]
