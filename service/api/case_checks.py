@@ -381,15 +381,16 @@ _NONLINEAR_MEASURES = (
 
 def _nonlinear_case(request: rq.CaseRequest, case: Case) -> Case:
     """A value-dependent diffusivity is solved by stepping in time on one homogeneous body,
-    sealed or held; its time scale is D at the final value."""
+    sealed, held or behind a film given by its transfer coefficient (a Biot number would need
+    a D to be on); its time scale is D at the final value."""
     checks = [
         (request.surface is None and request.faces is None, "a surface", "/surface"),
         (
             any(
-                e.kind not in (SurfaceKind.NO_FLUX, SurfaceKind.FIXED_VALUE)
+                e.kind not in (SurfaceKind.NO_FLUX, SurfaceKind.FIXED_VALUE, SurfaceKind.CONVECTIVE)
                 for e in case.faces.ends
             ),
-            "sealed or held surfaces (a film would need the surface value solved each step)",
+            "sealed, held or convective surfaces",
             "/surface" if request.surface is not None else "/faces",
         ),
         (
@@ -404,7 +405,7 @@ def _nonlinear_case(request: rq.CaseRequest, case: Case) -> Case:
         ),
         (
             len({e.value for e in case.faces.exchanging}) > 1,
-            "one held value (a steady profile would need D(c) solved across the body)",
+            "one surroundings value (a steady profile would need D(c) solved across the body)",
             "/faces",
         ),
     ]
@@ -418,7 +419,21 @@ def _nonlinear_case(request: rq.CaseRequest, case: Case) -> Case:
             + ", ".join(_NONLINEAR_MEASURES),
             "/criterion/measure",
         )
+    for pointer, surface in _request_surfaces(request):
+        if isinstance(surface, rq.ConvectiveSurface) and surface.biot is not None:
+            raise InvalidInput(
+                "with a value-dependent diffusivity a Biot number k·Lc/D has no one D to be on: "
+                "give the film's 'transfer_coefficient' instead",
+                pointer + "/biot",
+            )
     law = case.medium.nonlinear
     assert law is not None
     scale = float(law.diffusivity(np.array(case.final_value)))
-    return replace(case, medium=replace(case.medium, diffusivity_m2_per_s=scale))
+    # the films' Biot numbers were taken on the placeholder D; k = Bi·D/Lc stays as given
+    ratio = case.medium.diffusivity_m2_per_s / scale
+    inner = case.faces.inner
+    faces = Faces(
+        None if inner is None else replace(inner, biot=inner.biot * ratio),
+        replace(case.faces.outer, biot=case.faces.outer.biot * ratio),
+    )
+    return replace(case, medium=replace(case.medium, diffusivity_m2_per_s=scale), faces=faces)

@@ -16,11 +16,11 @@ stepper's interpolant (the measures offered here only fall: the mean square and 
 deviation from a constant final value, the amount's approach, and a value first reached at a
 point).
 
-Under a schedule the flux is scaled by s(t) = D(T(t))/D_ref in clock time, and a convective
-end passes (value − c)·A/(R_film + gap/(s·D_ref)) to its cell, the film resistance
-R_film = Lc/(Bi·D_ref) (Bi on D_ref, so R_film = 1/k_eff stays fixed while D moves); the
-system is then non-autonomous and the stepper adds its time derivative. Films are stepped for
-a constant D only (the API refuses them with D(c)). Surroundings that follow their own
+A convective end passes k·(value − c_s) through its film, k = Bi·D_ref/Lc (fixed while D
+moves), with the surface value c_s solved each evaluation so that the film's flux equals the
+half cell's Kirchhoff flux (``_Film``). Under a schedule the flux is scaled by
+s(t) = D(T(t))/D_ref in clock time; the system is then non-autonomous and the stepper adds its
+time derivative. Surroundings that follow their own
 schedule in clock time set the held value and the films' value at each time.
 """
 
@@ -44,6 +44,9 @@ FloatArray = NDArray[np.float64]
 
 # The stepping stops at this many diffusion times (Lc²/D at the final value) without an event.
 _HORIZON = 1e4
+# Newton steps for a film's surface value (the start is exact for a constant D; a D(c) takes a
+# few).
+_FILM_NEWTON_STEPS = 30
 
 
 @dataclass(frozen=True)
@@ -86,16 +89,17 @@ def step_in_time(
         (case.faces.outer, -1, faces[-1] - centres[-1]),
     )
     held = np.zeros(centres.size)
-    # each film: (its cell, face area over cell volume, film resistance, half-cell gap, value)
-    films: list[tuple[int, float, float, float, float]] = []
+    films: list[_Film] = []
     for end, index, gap in ends:
         if end is None or (index == -1 and mirrored):
             continue
         if end.kind is SurfaceKind.FIXED_VALUE:
             held[index] += areas[index] / gap
         elif end.biot > 0:
-            resistance = case.characteristic_length_m / (end.biot * reference)
-            films.append((index, areas[index] / volumes[index], resistance, gap, end.value))
+            transfer = end.biot * reference / case.characteristic_length_m
+            films.append(
+                _Film(index, float(areas[index] / volumes[index]), transfer, gap, end.value)
+            )
     final = case.final_value
     phi_surface = float(law.kirchhoff(np.array(final)))
     start = case.start.moments(m, faces[:-1], faces[1:]) / volumes
@@ -137,10 +141,6 @@ def step_in_time(
         def scale(t: float) -> float:
             return 1.0
 
-    def film_conductance(film: tuple[int, float, float, float, float], s: float) -> float:
-        _, area_per_volume, resistance, gap, _ = film
-        return area_per_volume / (resistance + gap / (s * reference))
-
     surroundings = case.surroundings
 
     def rhs(t: float, c: FloatArray) -> FloatArray:
@@ -152,8 +152,8 @@ def step_in_time(
             held_phi = float(law.kirchhoff(np.array(surroundings.value_at(t))))
         out = s * ((padded[:-1] - padded[1:]) / volumes + held_g * (held_phi - phi))
         for film in films:
-            value = film[4] if surroundings is None else surroundings.value_at(t)
-            out[film[0]] += film_conductance(film, s) * (value - c[film[0]])
+            value = film.value if surroundings is None else surroundings.value_at(t)
+            out[film.cell] += film.flux(law, s, float(c[film.cell]), value)[0]
         return np.asarray(out)
 
     def jacobian(t: float, c: FloatArray) -> Tridiagonal:
@@ -161,7 +161,8 @@ def step_in_time(
         d = s * law.diffusivity(bounded(c))
         diagonal = diagonal_g * d
         for film in films:
-            diagonal[film[0]] -= film_conductance(film, s)
+            value = film.value if surroundings is None else surroundings.value_at(t)
+            diagonal[film.cell] += film.flux(law, s, float(c[film.cell]), value)[1]
         return Tridiagonal(lower_g * d[:-1], diagonal, upper_g * d[1:])
 
     weights = volumes / total
@@ -205,6 +206,55 @@ def step_in_time(
         reported["reaches"] = 0.0 if run.met else None
     shortfall = 0.0 if run.met and stop_when_met else event(run.state)
     return SteppedRun(run.time_s, reported, cells, met=run.met, shortfall=shortfall)
+
+
+@dataclass(frozen=True)
+class _Film:
+    """A convective end: its cell, face area over that cell's volume, the film's transfer
+    coefficient k (m/s, on the body-side value), the gap from the surface to the cell's centre
+    and the body-side value the film leads toward (its surroundings' value times K)."""
+
+    cell: int
+    area_per_volume: float
+    transfer: float
+    gap: float
+    value: float
+
+    def surface_value(
+        self, law: NonlinearDiffusivity, s: float, inside: float, value: float
+    ) -> float:
+        """c_s where the film's flux k·(value − c_s) equals the half cell's s·(Φ(c_s) −
+        Φ(c_cell))/gap: s·Φ(c_s) + gap·k·c_s = s·Φ(c_cell) + gap·k·value, whose left side
+        rises with c_s; Newton from the root with D frozen at the cell's value (exact for a
+        constant D), kept between the cell's value and ``value``."""
+        k, gap = self.transfer, self.gap
+        d_inside = s * float(law.diffusivity(np.array(inside)))
+        surface = (d_inside * inside / gap + k * value) / (d_inside / gap + k)
+        low, high = min(inside, value), max(inside, value)
+        target = s * float(law.kirchhoff(np.array(inside))) + gap * k * value
+        scale = abs(target) + gap * k * (abs(value) + abs(inside)) + 1e-300
+        for _ in range(_FILM_NEWTON_STEPS):
+            residual = s * float(law.kirchhoff(np.array(surface))) + gap * k * surface - target
+            if abs(residual) <= 1e-14 * scale:
+                break
+            slope = s * float(law.diffusivity(np.array(surface))) + gap * k
+            surface = min(max(surface - residual / slope, low), high)
+        return surface
+
+    def flux(
+        self, law: NonlinearDiffusivity, s: float, inside: float, value: float
+    ) -> tuple[float, float]:
+        """(the film's flux into the cell per unit volume, its derivative by the cell's value:
+        −A/V·k·dc_s/dc_cell, dc_s/dc_cell = s·D(c_cell)/(s·D(c_s) + gap·k))."""
+        surface = self.surface_value(law, s, inside, value)
+        k = self.transfer
+        d_inside = s * float(law.diffusivity(np.array(inside)))
+        d_surface = s * float(law.diffusivity(np.array(surface)))
+        per_volume = self.area_per_volume * k
+        return (
+            per_volume * (value - surface),
+            -per_volume * d_inside / (d_surface + self.gap * k),
+        )
 
 
 def _criterion(
