@@ -228,16 +228,16 @@ class _Film:
         rises with c_s; Newton from the root with D frozen at the cell's value (exact for a
         constant D), kept between the cell's value and ``value``."""
         k, gap = self.transfer, self.gap
-        d_inside = s * float(law.diffusivity(np.array(inside)))
+        d_inside = s * law.diffusivity_at(inside)
         surface = (d_inside * inside / gap + k * value) / (d_inside / gap + k)
         low, high = min(inside, value), max(inside, value)
-        target = s * float(law.kirchhoff(np.array(inside))) + gap * k * value
+        target = s * law.kirchhoff_at(inside) + gap * k * value
         scale = abs(target) + gap * k * (abs(value) + abs(inside)) + 1e-300
         for _ in range(_FILM_NEWTON_STEPS):
-            residual = s * float(law.kirchhoff(np.array(surface))) + gap * k * surface - target
+            residual = s * law.kirchhoff_at(surface) + gap * k * surface - target
             if abs(residual) <= 1e-14 * scale:
                 break
-            slope = s * float(law.diffusivity(np.array(surface))) + gap * k
+            slope = s * law.diffusivity_at(surface) + gap * k
             surface = min(max(surface - residual / slope, low), high)
         return surface
 
@@ -248,8 +248,8 @@ class _Film:
         −A/V·k·dc_s/dc_cell, dc_s/dc_cell = s·D(c_cell)/(s·D(c_s) + gap·k))."""
         surface = self.surface_value(law, s, inside, value)
         k = self.transfer
-        d_inside = s * float(law.diffusivity(np.array(inside)))
-        d_surface = s * float(law.diffusivity(np.array(surface)))
+        d_inside = s * law.diffusivity_at(inside)
+        d_surface = s * law.diffusivity_at(surface)
         per_volume = self.area_per_volume * k
         return (
             per_volume * (value - surface),

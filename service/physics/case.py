@@ -838,6 +838,20 @@ class NonlinearDiffusivity:
             return np.asarray(self.d0 * np.exp(self.beta * c))
         return np.asarray(np.exp(np.interp(c, self.table_c, self.table_log_d)))
 
+    def diffusivity_at(self, c: float) -> float:
+        """D at one value (a scalar shortcut of ``diffusivity``)."""
+        if not self.table_c:
+            return self.d0 * math.exp(self.beta * c)
+        return float(self.diffusivity(np.array(c)))
+
+    def kirchhoff_at(self, c: float) -> float:
+        """Φ at one value (a scalar shortcut of ``kirchhoff``)."""
+        if not self.table_c:
+            return (
+                self.d0 * c if self.beta == 0.0 else self.d0 * math.expm1(self.beta * c) / self.beta
+            )
+        return float(self.kirchhoff(np.array(c)))
+
     def kirchhoff(self, c: FloatArray) -> FloatArray:
         """Φ(c) = ∫₀^c D(s) ds, exact for both forms."""
         c = np.asarray(c, dtype=float)
