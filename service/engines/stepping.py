@@ -59,6 +59,8 @@ class SteppedRun:
     cells: int
     met: bool = True
     shortfall: float = 0.0
+    # the cell values there (the meshed part: half of a mirror-symmetric slab)
+    state: FloatArray | None = None
 
 
 def step_in_time(
@@ -184,7 +186,7 @@ def step_in_time(
 
     cells = centres.size * (2 if mirrored else 1)
     if stop_when_met and event(start) <= 0:
-        return SteppedRun(0.0, {k: v for k, v in measures(start).items()}, cells)
+        return SteppedRun(0.0, {k: v for k, v in measures(start).items()}, cells, state=start)
     run = integrate_to_event(
         rhs,
         jacobian,
@@ -205,7 +207,9 @@ def step_in_time(
     if criterion.measure == "reaches":
         reported["reaches"] = 0.0 if run.met else None
     shortfall = 0.0 if run.met and stop_when_met else event(run.state)
-    return SteppedRun(run.time_s, reported, cells, met=run.met, shortfall=shortfall)
+    return SteppedRun(
+        run.time_s, reported, cells, met=run.met, shortfall=shortfall, state=run.state
+    )
 
 
 @dataclass(frozen=True)
