@@ -23,7 +23,7 @@ from service.engines.common import (
     interval_index,
 )
 from service.engines.finite_volume import FiniteVolumeEngine, build_mesh, three_grid_estimate
-from service.engines.stepping import SteppedRun, step_in_time
+from service.engines.stepping import SteppedRun, history_in_time, step_in_time
 from service.errors import InvalidInput, NotApplicable, NumericalFailure
 from service.lumped import LUMPED_BIOT, LumpedAnswer, classical_biot, lumped_answer
 from service.measures import (
@@ -216,6 +216,7 @@ class HistoryAnswer:
     final_value: float | None
     engine: str
     resolution: int
+    path: str = "eigen"
 
 
 def format_time(time_s: float) -> str:
@@ -300,6 +301,9 @@ NONLINEAR_RTOL_PER_ACCURACY = 1.0
 NONLINEAR_TIGHTER = 4.0
 NONLINEAR_MIN_RTOL = 1e-11
 NONLINEAR_STEPPING_SAFETY = 3.0
+
+# A time-stepped history's grid: this many cells over the body.
+HISTORY_STEPPED_CELLS = 256
 
 # A depth query on finite volumes: the finest of the first three nested grids has this many
 # cells, doubled until the depth's estimate meets the accuracy, never past the cap.
@@ -582,6 +586,48 @@ class Solver:
         return [], (
             f"The whole body is taken at the schedule's temperature at every moment: {text}, "
             "small enough for that."
+        )
+
+    def _history_stepped(
+        self, case: Case, times: FloatArray, chosen: NDArray[np.intp]
+    ) -> HistoryAnswer:
+        """A time-stepped case's history: one run on a fine grid (graded toward the surfaces
+        when the earliest time's diffusion length is short) at a tenth of the settling path's
+        step tolerance, its states read at the times asked from the stepper's interpolant."""
+        order = np.argsort(times)
+        ascending = times[order]
+        facts = Facts.of(case)
+        reach = math.sqrt(_fastest_diffusivity(case, facts) * float(ascending[0]))
+        length = reach if reach < 0.25 * case.body.wall_m else None
+        faces = build_mesh(case, HISTORY_STEPPED_CELLS, length)
+        positions = np.linspace(case.body.inner_m, case.body.extent_m, SNAPSHOT_POINTS)
+        rank = np.empty_like(order)
+        rank[order] = np.arange(order.size)
+        stepped = history_in_time(
+            case,
+            faces,
+            NONLINEAR_RTOL_PER_ACCURACY * case.accuracy / 10,
+            ascending,
+            [int(rank[i]) for i in chosen],
+            positions,
+        )
+        measures: dict[str, list[float | None]] = {
+            name: [_finite(values[int(rank[i])]) for i in range(times.size)]
+            for name, values in stepped.measures.items()
+        }
+        snapshots = [
+            Snapshot(float(times[i]), positions.tolist(), profile.tolist())
+            for i, profile in zip(chosen, stepped.profiles, strict=True)
+        ]
+        return HistoryAnswer(
+            times_s=times.tolist(),
+            measures=measures,
+            snapshots=snapshots,
+            bath_values=None,
+            final_value=final_value_of(case),
+            engine="finite_volume",
+            resolution=stepped.cells,
+            path="time_stepping",
         )
 
     def depth(
@@ -1052,12 +1098,6 @@ class Solver:
         self, case: Case, times_s: list[float] | None, time_count: int | None, snapshot_count: int
     ) -> HistoryAnswer:
         """Every defined measure at the given times (or log-spread around the settling time)."""
-        if case.needs_stepping:
-            raise InvalidInput(
-                "histories of time-stepped cases (a value-dependent diffusivity, a surface "
-                "film under a temperature schedule) are not offered here; ask /v1/settling-time",
-                "/medium",
-            )
         if case.product is not None:
             raise InvalidInput(
                 "histories of bars, blocks and short cylinders are not offered here; ask "
@@ -1085,6 +1125,15 @@ class Solver:
                         f"/times/{index}",
                     )
         clock = times
+        chosen = (
+            np.unique(
+                np.linspace(0, times.size - 1, min(snapshot_count, times.size)).round().astype(int)
+            )
+            if snapshot_count > 0
+            else np.array([], dtype=int)
+        )
+        if case.needs_stepping:
+            return self._history_stepped(case, times, chosen)
         reach = case.body.extent_m
         if case.semi_infinite is not None:
             # deep enough for the latest time asked; profiles down to about 6·√(D·t)
@@ -1105,13 +1154,6 @@ class Solver:
         for name, each in measured.items():
             series[name] = [_finite(float(v)) for v in each.reported(times)]
         positions = np.linspace(case.body.inner_m, reach, SNAPSHOT_POINTS)
-        chosen = (
-            np.unique(
-                np.linspace(0, times.size - 1, min(snapshot_count, times.size)).round().astype(int)
-            )
-            if snapshot_count > 0
-            else np.array([], dtype=int)
-        )
         # between bath exchanges each stretch of time follows its own restarted solution
         intervals = [Interval(0.0, solution, case.final_state.value)]
         if case.bath is not None and case.bath.exchanges_s:

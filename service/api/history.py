@@ -46,7 +46,7 @@ def history(request: HistoryRequest, solver: SolverDep, units: UnitsDep) -> Resp
             length_convention=translation.case.length_convention,
             diffusivity_m2_per_s=translation.case.medium.diffusivity_m2_per_s,
             biot=common_biot(translation.case),
-            method=Method(engine=answer.engine, path="eigen", resolution=answer.resolution),
+            method=Method(engine=answer.engine, path=answer.path, resolution=answer.resolution),
             interpreted_positions_m=translation.positions_m,
             cautions=list(CAUTIONS),
         ),

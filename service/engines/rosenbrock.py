@@ -83,6 +83,8 @@ class StepperRun:
     steps: int
     rejected: int
     met: bool = True
+    # the states at the output times asked for, one row each (on the interpolant)
+    outputs: FloatArray | None = None
 
 
 Rhs = Callable[[float, FloatArray], FloatArray]
@@ -100,20 +102,27 @@ def integrate_to_event(
     rtol: float,
     atol: float,
     is_autonomous: bool = True,
+    outputs_s: FloatArray | None = None,
 ) -> StepperRun:
     """Step dy/dt = rhs(t, y) from ``start`` at t = 0 until ``event(y)`` first falls to zero
     or below, or to ``horizon_s`` (then the run says it was not ``met``). Without an event the
     run goes to the horizon.
 
-    The local error of every accepted step is within ``atol + rtol·|y|`` in the root-mean-square
-    norm. A non-autonomous ``rhs`` gets its time derivative by a one-sided difference.
+    The local error of every accepted step is within ``atol + rtol·|y|`` in the largest
+    component. A non-autonomous ``rhs`` gets its time derivative by a one-sided difference.
+    ``outputs_s`` (ascending, within the horizon) are times whose states are returned, read
+    from the interpolant of the step that covers each.
     """
     y = np.asarray(start, dtype=float)
     t = 0.0
     h = first_step_s
     f0 = rhs(t, y)
+    wanted = np.asarray([] if outputs_s is None else outputs_s, dtype=float)
+    outputs = np.empty((wanted.size, y.size))
+    filled = int(np.searchsorted(wanted, 0.0, side="right"))
+    outputs[:filled] = y
     if event is not None and event(y) <= 0.0:
-        return StepperRun(0.0, y, 0, 0)
+        return StepperRun(0.0, y, 0, 0, outputs=outputs if outputs_s is not None else None)
     steps = rejected = 0
     while t < horizon_s * (1 - 1e-13):
         if steps + rejected >= _MAX_STEPS:
@@ -141,13 +150,26 @@ def integrate_to_event(
             continue
         steps += 1
         f1 = rhs(t + h, y1)
+        covered = int(np.searchsorted(wanted, t + h, side="right"))
+        for index in range(filled, covered):
+            outputs[index] = _hermite(y, f0, y1, f1, h, float(wanted[index]) - t)
+        filled = covered
         after = 1.0 if event is None else event(y1)
         if event is not None and after <= 0.0:
             when = _locate(event, y, f0, y1, f1, h, after)
-            return StepperRun(t + when, _hermite(y, f0, y1, f1, h, when), steps, rejected)
+            return StepperRun(
+                t + when,
+                _hermite(y, f0, y1, f1, h, when),
+                steps,
+                rejected,
+                outputs=outputs if outputs_s is not None else None,
+            )
         t, y, f0 = t + h, y1, f1
         h *= min(_GROW_AT_MOST, factor)
-    return StepperRun(t, y, steps, rejected, met=False)
+    outputs[filled:] = y
+    return StepperRun(
+        t, y, steps, rejected, met=False, outputs=outputs if outputs_s is not None else None
+    )
 
 
 def _rodas3_step(

@@ -38,7 +38,7 @@ from service.engines.rosenbrock import Tridiagonal, integrate_to_event
 from service.errors import NumericalFailure
 from service.physics import Case, NonlinearDiffusivity, SurfaceKind
 
-__all__ = ["SteppedRun", "step_in_time"]
+__all__ = ["SteppedHistory", "SteppedRun", "history_in_time", "step_in_time"]
 
 FloatArray = NDArray[np.float64]
 
@@ -63,21 +63,33 @@ class SteppedRun:
     state: FloatArray | None = None
 
 
-def step_in_time(
-    case: Case,
-    faces: FloatArray,
-    rtol: float,
-    until_s: float | None = None,
-    *,
-    stop_when_met: bool = True,
-) -> SteppedRun:
-    """The time the criterion is met, stepping on the cells between ``faces`` (from
-    ``finite_volume.build_mesh``) at step tolerance ``rtol``; with ``until_s`` no later than
-    that (clock time under a schedule), and with ``stop_when_met`` false always to it."""
+@dataclass(frozen=True)
+class _Line:
+    """The stepped system on one grid: its right-hand side and tridiagonal Jacobian, the start
+    in cell values, each measure as a function of the cell values, and the grid's facts."""
+
+    rhs: Callable[[float, FloatArray], FloatArray]
+    jacobian: Callable[[float, FloatArray], Tridiagonal]
+    start: FloatArray
+    measure_of: dict[str, Callable[[FloatArray], float]]
+    centres: FloatArray
+    mirrored: bool
+    final: float
+    atol_scale: float
+    is_autonomous: bool
+    cells: int
+    # (time, cell values) → the surface nodes (position, value) at the inner and outer ends,
+    # where a held or filmed surface has one
+    surface_nodes: Callable[[float, FloatArray], tuple[list[tuple[float, float]], ...]]
+
+    def measures(self, c: FloatArray) -> dict[str, float]:
+        return {name: measure(c) for name, measure in self.measure_of.items()}
+
+
+def _build_line(case: Case, faces: FloatArray) -> _Line:
+    """The finite volumes between ``faces`` as a stepped system (see the module notes)."""
     reference = case.medium.diffusivity_m2_per_s
     law = case.medium.nonlinear or NonlinearDiffusivity(d0=reference)
-    criterion = case.criterion
-    assert criterion is not None
     body = case.body
     m = body.metric
     mirrored = mirrored_extent(case) is not None
@@ -176,40 +188,137 @@ def step_in_time(
     if case.faces.exchanging and mean0 != 0.0:
         measure_of["fraction_equilibrated"] = lambda c: 1.0 - float(weights @ (c - final)) / mean0
 
-    def measures(c: FloatArray) -> dict[str, float]:
-        return {name: measure(c) for name, measure in measure_of.items()}
+    def surface_nodes(t: float, c: FloatArray) -> tuple[list[tuple[float, float]], ...]:
+        value = final if surroundings is None else surroundings.value_at(t)
+        nodes: tuple[list[tuple[float, float]], list[tuple[float, float]]] = ([], [])
+        for end, index, _ in ends:
+            if end is None or (index == -1 and mirrored):
+                continue
+            side = nodes[0 if index == 0 else 1]
+            if end.kind is SurfaceKind.FIXED_VALUE:
+                side.append((float(faces[index]), value))
+        for film in films:
+            side = nodes[0 if film.cell == 0 else 1]
+            position = float(faces[0] if film.cell == 0 else faces[-1])
+            surface = film.surface_value(law, scale(t), float(c[film.cell]), value)
+            side.append((position, surface))
+        return nodes
 
-    level, compared = _criterion(case, centres, faces, final, start, mirrored, measure_of)
+    return _Line(
+        rhs=rhs,
+        jacobian=jacobian,
+        start=start,
+        measure_of=measure_of,
+        centres=centres,
+        mirrored=mirrored,
+        final=final,
+        atol_scale=max(max0, abs(final), 1e-300),
+        is_autonomous=schedule is None and surroundings is None,
+        cells=centres.size * (2 if mirrored else 1),
+        surface_nodes=surface_nodes,
+    )
+
+
+def step_in_time(
+    case: Case,
+    faces: FloatArray,
+    rtol: float,
+    until_s: float | None = None,
+    *,
+    stop_when_met: bool = True,
+) -> SteppedRun:
+    """The time the criterion is met, stepping on the cells between ``faces`` (from
+    ``finite_volume.build_mesh``) at step tolerance ``rtol``; with ``until_s`` no later than
+    that (clock time under a schedule), and with ``stop_when_met`` false always to it."""
+    criterion = case.criterion
+    assert criterion is not None
+    line = _build_line(case, faces)
+    start, final = line.start, line.final
+    level, compared = _criterion(
+        case, line.centres, faces, final, start, line.mirrored, line.measure_of
+    )
 
     def event(c: FloatArray) -> float:
         return compared(c) - level
 
-    cells = centres.size * (2 if mirrored else 1)
     if stop_when_met and event(start) <= 0:
-        return SteppedRun(0.0, {k: v for k, v in measures(start).items()}, cells, state=start)
+        return SteppedRun(0.0, dict(line.measures(start)), line.cells, state=start)
     run = integrate_to_event(
-        rhs,
-        jacobian,
+        line.rhs,
+        line.jacobian,
         start,
         event if stop_when_met else None,
         horizon_s=until_s if until_s is not None else _HORIZON * case.diffusion_time_s,
         # a millionth of the diffusion time (at D_ref, a schedule's fastest)
         first_step_s=1e-6 * case.diffusion_time_s,
         rtol=rtol,
-        atol=rtol * max(max0, abs(final), 1e-300),
-        is_autonomous=schedule is None and surroundings is None,
+        atol=rtol * line.atol_scale,
+        is_autonomous=line.is_autonomous,
     )
     if not run.met and until_s is None:
         raise NumericalFailure(
             f"the time stepping did not reach the criterion within {_HORIZON:g} diffusion times"
         )
-    reported: dict[str, float | None] = {k: v for k, v in measures(run.state).items()}
+    reported: dict[str, float | None] = dict(line.measures(run.state))
     if criterion.measure == "reaches":
         reported["reaches"] = 0.0 if run.met else None
     shortfall = 0.0 if run.met and stop_when_met else event(run.state)
     return SteppedRun(
-        run.time_s, reported, cells, met=run.met, shortfall=shortfall, state=run.state
+        run.time_s, reported, line.cells, met=run.met, shortfall=shortfall, state=run.state
     )
+
+
+@dataclass(frozen=True)
+class SteppedHistory:
+    """Every measure at each time asked, and the profile at chosen times."""
+
+    measures: dict[str, list[float]]
+    profiles: list[FloatArray]
+    cells: int
+
+
+def history_in_time(
+    case: Case,
+    faces: FloatArray,
+    rtol: float,
+    times_s: FloatArray,
+    profile_times: list[int],
+    positions_m: FloatArray,
+) -> SteppedHistory:
+    """One stepped run through ``times_s`` (ascending): each measure at every time, and the
+    body-side profile at ``positions_m`` for the times indexed by ``profile_times`` (linear
+    between cell centres, and toward a held or filmed surface to its surface value; flat
+    toward a sealed end; read from the mirror image beyond half a mirror-symmetric slab)."""
+    line = _build_line(case, faces)
+    run = integrate_to_event(
+        line.rhs,
+        line.jacobian,
+        line.start,
+        None,
+        horizon_s=float(np.max(times_s)),
+        first_step_s=1e-6 * case.diffusion_time_s,
+        rtol=rtol,
+        atol=rtol * line.atol_scale,
+        is_autonomous=line.is_autonomous,
+        outputs_s=times_s,
+    )
+    assert run.outputs is not None
+    measures = {
+        name: [measure(state) for state in run.outputs]
+        for name in line.measure_of
+        for measure in (line.measure_of[name],)
+    }
+    extent = case.body.extent_m
+    points = np.minimum(positions_m, extent - positions_m) if line.mirrored else positions_m
+    profiles = []
+    for index in profile_times:
+        state = run.outputs[index]
+        before, after = line.surface_nodes(float(times_s[index]), state)
+        nodes = np.r_[[x for x, _ in before], line.centres, [x for x, _ in after]]
+        values = np.r_[[v for _, v in before], state, [v for _, v in after]]
+        potential = np.interp(points, nodes, values)
+        profiles.append(np.asarray(potential * case.partition_at(positions_m)))
+    return SteppedHistory(measures, profiles, line.cells)
 
 
 @dataclass(frozen=True)

@@ -225,3 +225,33 @@ def test_nonlinear_errors_name_the_field(
     response = client.post("/v1/settling-time", json=request)
     assert response.status_code == 422, response.text
     assert pointer in [e["pointer"] for e in response.json()["errors"]]
+
+
+def test_history_of_a_flat_law_is_the_linear_history(client: TestClient) -> None:
+    """The drying sheet with β → 0, stepped, against the exact eigen history: every measure at
+    each time and the profiles, within 1e-4 of the range."""
+    times = [600.0, 3600.0, 20000.0, 80000.0]
+
+    def history(medium: dict[str, Any]) -> Any:
+        request = {**DRYING, "medium": medium, "times": times, "snapshot_count": 2}
+        response = client.post("/v1/history", json=request)
+        assert response.status_code == 200, response.text
+        return response.json()
+
+    stepped = history({"diffusivity_exponential": {"d0": 1e-10, "beta": 1e-9}})
+    exact = history({"diffusivity": 1e-10})
+    assert stepped["method"]["path"] == "time_stepping"
+    for name in ("mean_square_deviation", "max_deviation", "fraction_equilibrated"):
+        assert np.allclose(stepped["measures"][name], exact["measures"][name], atol=1e-4), name
+    for ours, theirs in zip(stepped["snapshots"], exact["snapshots"], strict=True):
+        assert ours["time_s"] == theirs["time_s"]
+        assert np.allclose(ours["values"], theirs["values"], atol=1e-4)
+
+
+def test_history_crosses_the_criterion_at_the_settling_time(client: TestClient) -> None:
+    medium = {"diffusivity_exponential": {"d0": 1e-10, "beta": 3}}
+    settled = _post(client, {**DRYING, "medium": medium})["time_s"]
+    request = {**DRYING, "medium": medium, "times": [settled], "snapshot_count": 1}
+    response = client.post("/v1/history", json=request)
+    assert response.status_code == 200, response.text
+    assert response.json()["measures"]["fraction_equilibrated"][0] == pytest.approx(0.9, abs=1e-4)
