@@ -9,11 +9,12 @@ from typing import Any
 from fastapi import FastAPI
 
 from service import __version__
+from service.answers import WARNING_CODES
 from service.api import depths, estimates, health, history
 from service.api.problems import MEDIA_TYPE as PROBLEM_MEDIA_TYPE
 from service.api.problems import install_problem_handlers
 from service.settings import Settings, get_settings
-from service.solver import WARNING_CODES, Solver
+from service.solver import Solver
 from service.units import Units
 
 __all__ = ["app", "create_app", "load_examples"]

@@ -1,18 +1,38 @@
 """From a case to an answer: choose the engine, search, then measure at the answer.
 
-This is the only module that knows engines, measures and the settling search together;
-the API turns its plain results into responses.
+This module (with ``stepped.py`` for the cases that have no modes) is the only place that
+knows engines, measures and the settling search together; the answers it returns are the
+plain types of ``answers.py``, which the API turns into responses.
 """
 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field, replace
+from dataclasses import replace
 
 import numpy as np
 from numpy.typing import NDArray
-from scipy import optimize
 
+from service.answers import (
+    BASE_ASSUMPTIONS,
+    CAUTIONS,
+    HOMOGENEOUS,
+    SEMI_INFINITE_ASSUMPTION,
+    SNAPSHOT_POINTS,
+    STEADY_SURROUNDINGS,
+    WARNING_CODES,
+    DepthAnswer,
+    HistoryAnswer,
+    ScheduleAnswer,
+    SettlingAnswer,
+    Snapshot,
+    assumptions_for,
+    common_biot,
+    describe_final_state,
+    final_value_of,
+    finite_or_none,
+    format_time,
+)
 from service.depth import DepthAxis, depth_axis, depth_on
 from service.engines import Crossing, Engine, ModalSolution, SeriesEngine, make_engines
 from service.engines.common import (
@@ -23,9 +43,8 @@ from service.engines.common import (
     interval_index,
 )
 from service.engines.finite_volume import FiniteVolumeEngine, build_mesh, three_grid_estimate
-from service.engines.stepping import SteppedRun, history_in_time, step_in_time
 from service.errors import InvalidInput, NotApplicable, NumericalFailure
-from service.lumped import LUMPED_BIOT, LumpedAnswer, classical_biot, lumped_answer
+from service.lumped import LUMPED_BIOT, classical_biot, lumped_answer
 from service.measures import (
     Facts,
     Measure,
@@ -45,18 +64,9 @@ from service.physics import (
     SurfaceKind,
 )
 from service.settling import find_settling_time
+from service.stepped import history_stepped, settle_stepped
 
-__all__ = [
-    "CAUTIONS",
-    "PROFILE_FORMS",
-    "REACTION_FORMS",
-    "WARNING_CODES",
-    "HistoryAnswer",
-    "SettlingAnswer",
-    "Snapshot",
-    "Solver",
-    "format_time",
-]
+__all__ = ["Solver"]
 
 FloatArray = NDArray[np.float64]
 
@@ -66,27 +76,6 @@ QUICK_START_PIECES = 16
 QUICK_ACCURACY = 1e-8
 # A measure this far below its level at the earliest time searched is met from t → 0.
 IMMEDIATE_FRACTION = 1e-6
-# Positions across the body in each history snapshot.
-SNAPSHOT_POINTS = 101
-
-WARNING_CODES: dict[str, str] = {
-    "lumped_would_do": "the classical Biot number on V/A is below 0.1: a lumped (uniform-body) "
-    "model would give nearly the same time",
-    "near_tangent": "a local maximum of the measure nearly touches the tolerance after the "
-    "answer: a small change of the inputs can move the time a lot",
-    "settles_immediately": "the criterion is met from the start (or from t → 0, as at a point on "
-    "a held surface) and keeps being met",
-    "settles_before_resolved_time": "the criterion is met before Fo = 1e-6, the earliest time "
-    "searched; the time given is that upper bound",
-    "resolution_capped": "the finite-volume grid reached its cell cap before its estimated error "
-    "fell to the accuracy asked",
-    "schedule_too_short": "a temperature schedule ends before the criterion is met; the answer "
-    "extends its soak (its hottest hold) by the time given",
-    "semi_infinite_beyond_validity": "D·t over the real thickness squared is above 0.05: the "
-    "far side already matters and a slab of that thickness should be used",
-    "furnace_lag": "the part's own thermal settling time is a sizeable fraction of the soak: its "
-    "interior lags the furnace, so the diffusion in it runs behind the schedule",
-}
 
 # The part is said to lag the furnace when its thermal settling time (the whole section within
 # this fraction of a step in surface temperature, every surface held) exceeds this share of
@@ -94,34 +83,6 @@ WARNING_CODES: dict[str, str] = {
 LAG_SETTLED = 0.01
 LAG_SHARE = 0.1
 
-_ASSUMPTIONS = (
-    "No flow, stirring or convection inside the body; any of these would make the real time "
-    "shorter.",
-)
-_HOMOGENEOUS = (
-    "Transport by diffusion or conduction only, in a homogeneous body with constant properties."
-)
-_LAYERED = (
-    "Transport by diffusion or conduction only, each layer homogeneous with constant "
-    "properties, in contact at its interfaces (through the interface resistance if given)."
-)
-_STEADY_SURROUNDINGS = "The surroundings do not change over time."
-_SCHEDULED_SURROUNDINGS = (
-    "The surroundings follow the schedule given, in clock time; the body is judged against "
-    "the value they end at, and the time is the first at which the criterion is met."
-)
-
-
-def _surroundings_assumption(case: Case) -> str:
-    if case.bath is not None:
-        return _STIRRED_BATH
-    return _STEADY_SURROUNDINGS if case.surroundings is None else _SCHEDULED_SURROUNDINGS
-
-
-_SEMI_INFINITE = (
-    "The body is semi-infinite: deep enough that its far side does not matter by the answer "
-    "(the erfc solution)."
-)
 # A semi-infinite body's slab: half-thickness at least this many √(D·t) at the answer, at
 # least this absolute size, grown at most this many times; a real thickness with
 # D·t/thickness² above the last figure is warned about.
@@ -129,111 +90,6 @@ SEMI_INFINITE_DEPTHS = 12.0
 SEMI_INFINITE_MIN_HALF_M = 1e-9
 SEMI_INFINITE_ROUNDS = 12
 SEMI_INFINITE_FO = 0.05
-_STIRRED_BATH = (
-    "The bath is well stirred (uniform at every instant) and exchanges with nothing but the "
-    "body; at each exchange it is replaced at once by fresh fluid at its starting value."
-)
-_RADIAL_SEALED = (
-    "For a sealed cylinder or sphere the answer is for a radially symmetric start; a start that "
-    "varies around or along the body can decay more slowly than this radial answer."
-)
-CAUTIONS = (
-    "This is a planning estimate, not a validated process. Where safety or quality depends on the "
-    "time (food safety, heat treatment of structural parts, drug release, diagnostics), verify it "
-    "by measurement on the real part or product.",
-    "Local codes, product specifications and licensed professional practice govern over this "
-    "estimate.",
-)
-
-
-@dataclass(frozen=True)
-class ScheduleAnswer:
-    """Where in a temperature schedule the criterion is met."""
-
-    integrated_diffusivity_m2: float
-    met_in_segment: int | None
-    schedule_end_s: float
-    extra_soak_s: float
-
-
-@dataclass(frozen=True)
-class SettlingAnswer:
-    time_s: float
-    definition: str
-    fourier_number: float
-    final_value: float | None
-    slowest_rate_per_s: float | None
-    slowest_excited_rate_per_s: float | None
-    measures: dict[str, float | None]
-    engine: str
-    resolution: int
-    estimated_relative_error: float
-    biot: float | None
-    lumped: LumpedAnswer | None = None
-    met_after_exchange: int | None = None
-    schedule: ScheduleAnswer | None = None
-    # first-order reaction: (Thiele modulus Lc·√(k/D), effectiveness factor ⟨c_f⟩/c_surface)
-    reaction: tuple[float, float] | None = None
-    # how the time was found: through the eigen-expansion, or by stepping in time
-    path: str = "eigen"
-    warnings: list[tuple[str, str]] = field(default_factory=list)
-    assumptions: list[str] = field(default_factory=list)
-    cautions: list[str] = field(default_factory=list)
-
-
-@dataclass(frozen=True)
-class Snapshot:
-    time_s: float
-    positions_m: list[float]
-    values: list[float]
-
-
-@dataclass(frozen=True)
-class DepthAnswer:
-    """How deep a value is reached at one time (``depth_m`` None when nowhere)."""
-
-    depth_m: float | None
-    measured_from: str
-    profile_range: tuple[float, float]
-    fourier_number: float
-    # the echoed Lc and its convention (a semi-infinite body's is the depth found, or the
-    # diffusion length √(D·t) when the value is reached nowhere)
-    length_m: float
-    length_convention: str
-    engine: str
-    resolution: int
-    estimated_relative_error: float | None
-    warnings: list[tuple[str, str]]
-    assumptions: list[str]
-
-
-@dataclass(frozen=True)
-class HistoryAnswer:
-    times_s: list[float]
-    measures: dict[str, list[float | None]]
-    snapshots: list[Snapshot]
-    bath_values: list[float] | None
-    final_value: float | None
-    engine: str
-    resolution: int
-    path: str = "eigen"
-
-
-def format_time(time_s: float) -> str:
-    """Three significant figures in s, min, h or d."""
-    for unit, seconds, limit in (("s", 1.0, 120.0), ("min", 60.0, 7200.0), ("h", 3600.0, 172800.0)):
-        if time_s < limit:
-            return f"{_three_figures(time_s / seconds)} {unit}"
-    return f"{_three_figures(time_s / 86400.0)} d"
-
-
-def _three_figures(value: float) -> str:
-    if value == 0:
-        return "0"
-    if 1e-3 <= abs(value) < 1e6:
-        digits = max(0, 2 - math.floor(math.log10(abs(value))))
-        return f"{value:.{digits}f}"
-    return f"{value:.2e}"
 
 
 def _interpret(
@@ -269,194 +125,10 @@ def _interpret(
     return time_s, warnings
 
 
-def _assumptions(case: Case, facts: Facts) -> list[str]:
-    assumptions = [_LAYERED if case.body.layers else _HOMOGENEOUS, *_ASSUMPTIONS]
-    assumptions.append(_surroundings_assumption(case))
-    if not case.faces.exchanging and case.body.geometry is not Geometry.SLAB:
-        assumptions.append(_RADIAL_SEALED)
-    if case.medium.partition != 1.0 and any(
-        end.kind is SurfaceKind.CONVECTIVE for end in case.faces.ends
-    ):
-        assumptions.append(
-            f"Partition equilibrium at the surface with K = {case.medium.partition:.6g}: the "
-            "body ends at K times the surroundings' value."
-        )
-    if case.start.representation_error > 0:
-        assumptions.append(
-            "The start's curve is drawn with straight chords, within "
-            f"{case.start.representation_error:.2g} of its amplitude (included in the error "
-            "estimate)."
-        )
-    assumptions.append(describe_final_state(case))
-    return assumptions
-
-
-# A value-dependent diffusivity's grids: the finest of the first three has this many cells
-# over the body (the coarsest a quarter of them), halved until the estimate meets the
-# accuracy, never past the cap. The step tolerance is this multiple of the accuracy; the
-# check on it runs that much tighter, its difference counted with a safety factor.
-NONLINEAR_FIRST_CELLS = 64
-NONLINEAR_MAX_CELLS = 2048
-NONLINEAR_RTOL_PER_ACCURACY = 1.0
-NONLINEAR_TIGHTER = 4.0
-NONLINEAR_MIN_RTOL = 1e-11
-NONLINEAR_STEPPING_SAFETY = 3.0
-
-# A time-stepped history's grid: this many cells over the body.
-HISTORY_STEPPED_CELLS = 256
-
 # A depth query on finite volumes: the finest of the first three nested grids has this many
 # cells, doubled until the depth's estimate meets the accuracy, never past the cap.
 DEPTH_FIRST_CELLS = 128
 DEPTH_MAX_CELLS = 4096
-
-# Soak lengthening beyond this many diffusion times (at the soak's D) is given up; a
-# lengthening found on one grid brackets the next grid's search within this fraction; the
-# search stops within this multiple of the step tolerance (times the schedule's length).
-SOAK_SEARCH_LIMIT = 1e3
-SOAK_BRACKET = 0.01
-SOAK_TOLERANCE_PER_RTOL = 0.01
-
-# How a stepped answer's transport is described.
-_STEPPED_TRANSPORT = {
-    "nonlinear": "Transport by diffusion only, in a homogeneous body whose diffusivity depends "
-    "on the value as given (stepped in time with the Kirchhoff transform Φ = ∫D dc: the flux "
-    "is −∇Φ); the Fourier number is on D at the final value.",
-    "schedule": "Transport by diffusion only; the whole body follows the schedule's temperature "
-    "and D(T) its Arrhenius law, while a surface film's transfer coefficient stays as given "
-    "(its Biot number changes with D) or the surroundings keep their own clock, so reduced "
-    "time does not separate the problem: stepped in clock time. The Fourier number is "
-    "∫D dt / Lc².",
-}
-
-# The steady profiles' forms, per metric exponent (x and r in metres).
-PROFILE_FORMS = {0: "a + b·x", 1: "a + b·ln(r / 1 m)", 2: "a − b/r"}
-REACTION_FORMS = {
-    0: "scale·cosh(modulus·(x − centre))",
-    1: "scale·I0(modulus·r)",
-    2: "scale·sinh(modulus·r)/(modulus·r)",
-}
-
-
-def _stepped_time(
-    case: Case, faces: FloatArray, rtol: float, guess_s: float | None = None
-) -> SteppedRun:
-    """One stepped run to the criterion. Under a schedule the run stops at its end; when the
-    criterion is not met by then, the soak is lengthened until it is met exactly at the end
-    (the criterion's quantity only falls, so its value at the end falls as the soak grows):
-    the run's time is then the lengthened schedule's end. ``guess_s``, a lengthening found on
-    another grid, narrows the search."""
-    schedule = case.schedule
-    if schedule is None:
-        return step_in_time(case, faces, rtol)
-    runs: dict[float, SteppedRun] = {}  # by lengthening, to the lengthened schedule's end
-
-    def at_end(extra_s: float) -> float:
-        if extra_s not in runs:
-            longer = replace(case, schedule=schedule.with_soak_extended(extra_s))
-            end_s = schedule.duration_s + extra_s
-            runs[extra_s] = step_in_time(longer, faces, rtol, until_s=end_s, stop_when_met=False)
-        return runs[extra_s].shortfall
-
-    if guess_s is None or guess_s <= 0:
-        first = step_in_time(case, faces, rtol, until_s=schedule.duration_s)
-        if first.met:
-            return first
-        runs[0.0] = replace(first, met=False)
-        soak = schedule.segments[schedule.soak]
-        low, high = 0.0, max(soak.duration_s, 1e-3 * schedule.duration_s)
-        step = 3 * high
-    else:
-        step = SOAK_BRACKET * guess_s
-        low, high = guess_s - step, guess_s + step
-        while at_end(low) <= 0:
-            if low == 0.0:  # met within the schedule on this grid after all
-                return step_in_time(case, faces, rtol, until_s=schedule.duration_s)
-            high, step = low, 4 * step
-            low = max(low - step, 0.0)
-    limit = (
-        SOAK_SEARCH_LIMIT
-        * case.diffusion_time_s
-        * (
-            case.medium.diffusivity_m2_per_s
-            / schedule.law.diffusivity(schedule.segments[schedule.soak].end_k)
-        )
-    )
-    while at_end(high) > 0:
-        low, high, step = high, high + step, 4 * step
-        if high > limit:
-            raise NumericalFailure(
-                f"the criterion is not met even with the soak held {format_time(limit)} longer"
-            )
-    tolerance = SOAK_TOLERANCE_PER_RTOL * rtol * (schedule.duration_s + high)
-    extra = float(optimize.brentq(at_end, low, high, xtol=tolerance))
-    at_end(extra)
-    return replace(runs[extra], time_s=schedule.duration_s + extra, met=True)
-
-
-def _stepped_schedule_answer(
-    case: Case, time_s: float
-) -> tuple[ScheduleAnswer, list[tuple[str, str]]]:
-    """Where in the schedule a stepped answer falls, and the warning when the schedule ends
-    first (then ``time_s`` is the end of the schedule with its soak lengthened)."""
-    schedule = case.schedule
-    assert schedule is not None
-    extra = max(time_s - schedule.duration_s, 0.0)
-    if extra == 0.0:
-        reduced = schedule.reduced(time_s)
-        return ScheduleAnswer(reduced, schedule.segment_at(time_s), schedule.duration_s, 0.0), []
-    longer = schedule.with_soak_extended(extra)
-    answer = ScheduleAnswer(longer.reduced(time_s), None, schedule.duration_s, extra)
-    warning = (
-        "schedule_too_short",
-        "the schedule ends before the criterion is met: the soak would need "
-        f"{format_time(extra)} more at its temperature",
-    )
-    return answer, [warning]
-
-
-def _reduced_seconds(case: Case, run: SteppedRun, time_s: float | None = None) -> float:
-    """The answer in seconds at D_ref: the clock time, or under a schedule ∫D dt / D_ref."""
-    time_s = run.time_s if time_s is None else time_s
-    schedule = case.schedule
-    if schedule is None:
-        return time_s
-    extra = max(time_s - schedule.duration_s, 0.0)
-    longer = schedule.with_soak_extended(extra) if extra > 0 else schedule
-    return longer.reduced(time_s) / case.medium.diffusivity_m2_per_s
-
-
-def _fastest_diffusivity(case: Case, facts: Facts) -> float:
-    """The largest D the stepped body sees (a schedule's D_ref; D(c) over the values met)."""
-    law = case.medium.nonlinear
-    if law is None:
-        return case.medium.diffusivity_m2_per_s
-    low, high = case.start.value_range
-    return float(np.max(law.diffusivity(np.array([low, high, facts.final_value]))))
-
-
-def _bisected(faces: FloatArray) -> FloatArray:
-    """Every cell split at its middle: the grid whose every second face is ``faces``."""
-    return np.sort(np.r_[faces, 0.5 * (faces[1:] + faces[:-1])])
-
-
-def describe_final_state(case: Case) -> str:
-    """One sentence on the state the body settles to."""
-    state = case.final_state
-    if state.is_uniform:
-        return f"The final state is uniform at {state.value:.6g}."
-    body = case.body
-    if state.reaction is not None:
-        return (
-            "The final state is the steady reaction–diffusion profile "
-            f"c = {REACTION_FORMS[body.metric]}; the measures compare the body with it."
-        )
-    ends = state.values(np.array([body.inner_m, body.extent_m]))
-    return (
-        f"The final state is not uniform: the steady profile c = {PROFILE_FORMS[body.metric]} "
-        f"(a, b per layer), from {ends[0]:.6g} at the first or inner end to {ends[1]:.6g} at "
-        "the second or outer end; the measures compare the body with this profile."
-    )
 
 
 def _as_deep_slab(case: Case, half_m: float) -> Case:
@@ -486,26 +158,6 @@ def _reaction_figures(case: Case) -> tuple[float, float] | None:
     modulus = case.characteristic_length_m * math.sqrt(rate / case.medium.diffusivity_m2_per_s)
     surface = case.faces.outer.value
     return modulus, (case.final_value / surface if surface != 0 else math.nan)
-
-
-def final_value_of(case: Case) -> float | None:
-    """The uniform final value in value units; None when the body ends in a profile or, being
-    layered with different partition coefficients, at a different value in each layer."""
-    state = case.final_state
-    partitions = {layer.partition for layer in case.layers}
-    if not state.is_uniform or len(partitions) > 1:
-        return None
-    return state.value * partitions.pop()
-
-
-def common_biot(case: Case) -> float | None:
-    """The Biot number of the convective ends when they share one; None otherwise."""
-    values = {end.biot for end in case.faces.ends if end.kind is SurfaceKind.CONVECTIVE}
-    return values.pop() if len(values) == 1 else None
-
-
-def _finite(value: float) -> float | None:
-    return value if math.isfinite(value) else None
 
 
 class Solver:
@@ -588,48 +240,6 @@ class Solver:
             "small enough for that."
         )
 
-    def _history_stepped(
-        self, case: Case, times: FloatArray, chosen: NDArray[np.intp]
-    ) -> HistoryAnswer:
-        """A time-stepped case's history: one run on a fine grid (graded toward the surfaces
-        when the earliest time's diffusion length is short) at a tenth of the settling path's
-        step tolerance, its states read at the times asked from the stepper's interpolant."""
-        order = np.argsort(times)
-        ascending = times[order]
-        facts = Facts.of(case)
-        reach = math.sqrt(_fastest_diffusivity(case, facts) * float(ascending[0]))
-        length = reach if reach < 0.25 * case.body.wall_m else None
-        faces = build_mesh(case, HISTORY_STEPPED_CELLS, length)
-        positions = np.linspace(case.body.inner_m, case.body.extent_m, SNAPSHOT_POINTS)
-        rank = np.empty_like(order)
-        rank[order] = np.arange(order.size)
-        stepped = history_in_time(
-            case,
-            faces,
-            NONLINEAR_RTOL_PER_ACCURACY * case.accuracy / 10,
-            ascending,
-            [int(rank[i]) for i in chosen],
-            positions,
-        )
-        measures: dict[str, list[float | None]] = {
-            name: [_finite(values[int(rank[i])]) for i in range(times.size)]
-            for name, values in stepped.measures.items()
-        }
-        snapshots = [
-            Snapshot(float(times[i]), positions.tolist(), profile.tolist())
-            for i, profile in zip(chosen, stepped.profiles, strict=True)
-        ]
-        return HistoryAnswer(
-            times_s=times.tolist(),
-            measures=measures,
-            snapshots=snapshots,
-            bath_values=None,
-            final_value=final_value_of(case),
-            engine="finite_volume",
-            resolution=stepped.cells,
-            path="time_stepping",
-        )
-
     def depth(
         self, case: Case, at_s: float, value: float, surface_pointer: str = "/surface"
     ) -> DepthAnswer:
@@ -699,10 +309,10 @@ class Solver:
                     f"the depth's estimated error, {error:.2g} of it, is above the accuracy asked",
                 )
             )
-        assumptions = _assumptions(work, Facts.of(work))
+        assumptions = assumptions_for(work, Facts.of(work))
         length, convention = case.characteristic_length_m, case.length_convention
         if case.semi_infinite is not None:
-            assumptions = [*assumptions[:-1], _SEMI_INFINITE]
+            assumptions = [*assumptions[:-1], SEMI_INFINITE_ASSUMPTION]
             length, convention = (
                 (depth, "depth") if depth else (math.sqrt(reference * time_s), "diffusion_length")
             )
@@ -770,101 +380,8 @@ class Solver:
         if case.product is not None:
             return self._settle_product(case)
         if case.needs_stepping:
-            return self._settle_stepped(case)
+            return settle_stepped(case, self.furnace_lag)
         return self._settle(case)
-
-    def _settle_stepped(self, case: Case) -> SettlingAnswer:
-        """No eigen-expansion: stepped in time on three nested grids, reported as the eigen
-        engine reports its grids, with the time-stepping error measured by a second run at a
-        tighter step tolerance and added to the estimate. Grids are halved until the
-        estimate meets the accuracy asked or the cell cap is reached. The step tolerance
-        starts at the accuracy and is tightened first, on the coarsest grid, until its share of
-        the error is at most half the accuracy."""
-        criterion = case.criterion
-        assert criterion is not None
-        facts = Facts.of(case)
-        rtol = NONLINEAR_RTOL_PER_ACCURACY * case.accuracy
-
-        found: list[float] = []  # the soak lengthenings found so far, the last first used
-
-        def run(faces: FloatArray, rtol: float) -> SteppedRun:
-            stepped = _stepped_time(case, faces, rtol, found[-1] if found else None)
-            if case.schedule is not None and stepped.time_s > case.schedule.duration_s:
-                found.append(stepped.time_s - case.schedule.duration_s)
-            return stepped
-
-        # the coarsest grid, uniform, says how far the diffusion has got by the answer; an
-        # early answer gets grids graded toward the surfaces instead, as the eigen engine does
-        faces = build_mesh(case, NONLINEAR_FIRST_CELLS, None)
-        glance = run(faces[::4], rtol)
-        reach = math.sqrt(_fastest_diffusivity(case, facts) * _reduced_seconds(case, glance))
-        if reach < 0.25 * case.body.wall_m:
-            faces = build_mesh(case, NONLINEAR_FIRST_CELLS, reach)
-            glance = run(faces[::4], rtol)
-        # the step tolerance's share of the error: the coarsest grid again at a tighter one,
-        # tightening until that share is at most half the accuracy asked
-        while True:
-            tighter = run(faces[::4], rtol / NONLINEAR_TIGHTER)
-            stepping_error = NONLINEAR_STEPPING_SAFETY * abs(glance.time_s / tighter.time_s - 1)
-            if stepping_error <= 0.5 * case.accuracy or rtol < NONLINEAR_MIN_RTOL:
-                break
-            rtol /= NONLINEAR_TIGHTER
-            glance = tighter
-        runs = [glance, *(run(faces[::scale], rtol) for scale in (2, 1))]
-        while True:
-            time_s, grid_error, _ = three_grid_estimate(
-                runs[2].time_s, runs[1].time_s, runs[0].time_s
-            )
-            error = grid_error + stepping_error
-            if error <= case.accuracy or 2 * (faces.size - 1) > NONLINEAR_MAX_CELLS:
-                break
-            faces = _bisected(faces)
-            runs = [*runs[1:], run(faces, rtol)]
-        fine = runs[-1]
-        warnings = []
-        if error > case.accuracy:
-            warnings.append(
-                (
-                    "resolution_capped",
-                    f"the time-stepped grids and step tolerances leave an estimated {error:.2g} "
-                    "of the time, more than the accuracy asked",
-                )
-            )
-        schedule = None
-        lag_assumptions: list[str] = []
-        if case.schedule is not None:
-            schedule, schedule_warnings = _stepped_schedule_answer(case, time_s)
-            lag_warnings, lag_assumption = self.furnace_lag(case)
-            warnings += schedule_warnings + lag_warnings
-            lag_assumptions.append(lag_assumption)
-        return SettlingAnswer(
-            time_s=time_s,
-            definition=(
-                "first_crossing"
-                if criterion.measure == "reaches" or case.surroundings is not None
-                else "monotone"
-            ),
-            fourier_number=_reduced_seconds(case, fine, time_s) / case.diffusion_time_s,
-            final_value=facts.final_value,
-            slowest_rate_per_s=None,
-            slowest_excited_rate_per_s=None,
-            measures=fine.measures,
-            engine="finite_volume",
-            resolution=fine.cells,
-            estimated_relative_error=error,
-            biot=common_biot(case) if case.schedule is not None else None,
-            schedule=schedule,
-            warnings=warnings,
-            assumptions=[
-                _STEPPED_TRANSPORT["nonlinear" if case.medium.nonlinear else "schedule"],
-                *_ASSUMPTIONS,
-                _surroundings_assumption(case),
-                describe_final_state(case),
-                *lag_assumptions,
-            ],
-            cautions=list(CAUTIONS),
-            path="time_stepping",
-        )
 
     def _settle_product(self, case: Case) -> SettlingAnswer:
         """A bar, block or short cylinder: each direction's exact series, their product
@@ -919,14 +436,14 @@ class Solver:
         crossing = find_settling_time(compared, floor_s)
         time_s = crossing.time_s
         reported = {
-            name: _finite(float(measure(name, 1.0).values(np.array([time_s]))[0]))
+            name: finite_or_none(float(measure(name, 1.0).values(np.array([time_s]))[0]))
             for name in ("max_deviation", "mean_square_deviation", "fraction_equilibrated")
         }
-        reported["fraction_equilibrated"] = _finite(
+        reported["fraction_equilibrated"] = finite_or_none(
             1.0 - (reported["fraction_equilibrated"] or 0.0)
         )
         if criterion.measure in ("value_at", "reaches"):
-            reported[criterion.measure] = _finite(float(compared.value(time_s)))
+            reported[criterion.measure] = finite_or_none(float(compared.value(time_s)))
         rates = [float(sol.rates_per_s[0]) for sol in solutions]
         excited = [sol.slowest_excited_rate_per_s for sol in solutions]
         # each series is truncated far below the accuracy (see SeriesEngine.solution); the
@@ -946,9 +463,9 @@ class Solver:
             biot=None,
             warnings=[],
             assumptions=[
-                _HOMOGENEOUS,
-                *_ASSUMPTIONS,
-                _STEADY_SURROUNDINGS,
+                HOMOGENEOUS,
+                *BASE_ASSUMPTIONS,
+                STEADY_SURROUNDINGS,
                 "The body is solved as the product of one-dimensional solutions ("
                 + ", ".join(product.names)
                 + "), exact for a uniform start and the same surface all round; Lc and the "
@@ -993,7 +510,7 @@ class Solver:
             biot=None,
             lumped=None,
             warnings=warnings,
-            assumptions=[*answer.assumptions[:-1], _SEMI_INFINITE],
+            assumptions=[*answer.assumptions[:-1], SEMI_INFINITE_ASSUMPTION],
         )
 
     def _settle(self, case: Case) -> SettlingAnswer:
@@ -1043,7 +560,7 @@ class Solver:
             reported = (
                 float(each.reported(np.array([time_s]))[0]) if time_s > 0 else each.initial_value()
             )
-            values[name] = _finite(reported)
+            values[name] = finite_or_none(reported)
         excited = run.solution.slowest_excited_rate_per_s
         biot = common_biot(case)
         fourier = time_s / case.diffusion_time_s
@@ -1090,7 +607,7 @@ class Solver:
                 else None
             ),
             warnings=warnings,
-            assumptions=_assumptions(case, facts) + lag_assumptions,
+            assumptions=assumptions_for(case, facts) + lag_assumptions,
             cautions=list(CAUTIONS),
         )
 
@@ -1133,7 +650,7 @@ class Solver:
             else np.array([], dtype=int)
         )
         if case.needs_stepping:
-            return self._history_stepped(case, times, chosen)
+            return history_stepped(case, times, chosen)
         reach = case.body.extent_m
         if case.semi_infinite is not None:
             # deep enough for the latest time asked; profiles down to about 6·√(D·t)
@@ -1152,7 +669,7 @@ class Solver:
         measured = defined_measures(case, facts, solution, case.criterion)
         series: dict[str, list[float | None]] = {}
         for name, each in measured.items():
-            series[name] = [_finite(float(v)) for v in each.reported(times)]
+            series[name] = [finite_or_none(float(v)) for v in each.reported(times)]
         positions = np.linspace(case.body.inner_m, reach, SNAPSHOT_POINTS)
         # between bath exchanges each stretch of time follows its own restarted solution
         intervals = [Interval(0.0, solution, case.final_state.value)]

@@ -15,9 +15,10 @@ from __future__ import annotations
 
 import pytest
 
+from service.answers import SettlingAnswer
 from service.errors import MixclockError
 from service.physics import Criterion, Geometry, Start, SurfaceKind
-from service.solver import SettlingAnswer, Solver
+from service.solver import Solver
 from tests.factories import KINDS, SHAPES, make_case, off_centre_band
 
 CRITERIA = [

@@ -8,9 +8,10 @@ import numpy as np
 from fastapi import Depends, Request, Response
 from pydantic import BaseModel
 
+from service.answers import PROFILE_FORMS, REACTION_FORMS
 from service.models.responses import FinalStateOut, ProfilePieceOut
 from service.physics import Case, Geometry, SurfaceKind
-from service.solver import PROFILE_FORMS, REACTION_FORMS, Solver
+from service.solver import Solver
 from service.units import Units
 
 __all__ = ["SolverDep", "UnitsDep", "biot_by_face", "final_state_out", "json_response"]

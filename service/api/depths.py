@@ -6,12 +6,12 @@ import time
 
 from fastapi import APIRouter, Response
 
+from service.answers import CAUTIONS
 from service.api.cases import to_case
 from service.api.deps import SolverDep, UnitsDep, json_response
 from service.api.problems import PROBLEM_RESPONSES
 from service.api.ranges import DURATION_RANGE_S, in_range
 from service.models import DepthRequest, DepthResponse, Method, WarningOut
-from service.solver import CAUTIONS
 
 __all__ = ["router"]
 

@@ -8,6 +8,7 @@ import time
 from fastapi import APIRouter, Response
 from starlette.concurrency import run_in_threadpool
 
+from service.answers import format_time
 from service.api.cases import Translation, to_case
 from service.api.deps import (
     SolverDep,
@@ -19,7 +20,7 @@ from service.api.deps import (
 from service.api.problems import PROBLEM_RESPONSES
 from service.models import LumpedOut, Method, SettlingRequest, SettlingResponse, WarningOut
 from service.models.responses import ReactionOut, ScheduleOut
-from service.solver import Solver, format_time
+from service.solver import Solver
 
 __all__ = ["router"]
 

@@ -6,11 +6,11 @@ import time
 
 from fastapi import APIRouter, Response
 
+from service.answers import CAUTIONS, common_biot
 from service.api.cases import to_case
 from service.api.deps import SolverDep, UnitsDep, final_state_out, json_response
 from service.api.problems import PROBLEM_RESPONSES
 from service.models import HistoryRequest, HistoryResponse, Method, SnapshotOut
-from service.solver import CAUTIONS, common_biot
 
 __all__ = ["router"]
 
