@@ -18,6 +18,7 @@ that same grid (no error estimate either).
 
 from __future__ import annotations
 
+import json
 import math
 import statistics
 import sys
@@ -28,10 +29,12 @@ from functools import partial
 from pathlib import Path
 
 import numpy as np
-from scipy import integrate, optimize, sparse
+from scipy import integrate, optimize, sparse, special
 
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
+from service.api.cases import to_case
+from service.models import DepthRequest, SettlingRequest
 from service.physics import (
     Arrhenius,
     Bath,
@@ -51,6 +54,7 @@ from service.physics import (
     SurroundingsSchedule,
 )
 from service.solver import Solver
+from service.units import Units
 
 REPEATS = 7
 ACCURACY = 1e-4
@@ -353,7 +357,7 @@ def bath_table(solver: Solver) -> None:
 def processes_table(solver: Solver) -> None:
     """Processes in time: mixclock's query against BDF method of lines on the same case
     (uniform grid of 200 cells, banded sparsity, terminal event, rtol 1e-8). References:
-    mixclock at accuracy 1e-9 (the carburizing one is also the erf formula's)."""
+    mixclock at accuracy 1e-9."""
     print("\n## Processes in time (ms per query; error against the reference)")
     print(f"{'case':40s} {'mixclock':>10s} {'rel.error':>10s} {'BDF':>10s} {'rel.error':>10s}")
     law = Arrhenius(2.0e-5, 250e3 / 8.314462618)
@@ -419,6 +423,35 @@ def processes_table(solver: Solver) -> None:
             f"{label:40s} {ours_ms:10.3f} {abs(ours.time_s / exact - 1):10.1e} "
             f"{bdf_ms:10.3f} {abs(found / exact - 1):10.1e}"
         )
+
+
+def carburizing_table(solver: Solver) -> None:
+    """The carburizing examples of openapi_examples/ (a semi-infinite body held at its surface):
+    the time a depth reaches a value, and the depth a value has reached at a time, each
+    against the erf solution x = 2·√(Dt)·erf⁻¹((c − c_s)/(c0 − c_s))."""
+    print("\n## Carburizing, semi-infinite (ms per query; error against the erf solution)")
+    examples = Path(__file__).resolve().parent.parent / "openapi_examples"
+    units = Units()
+    settling = json.loads((examples / "settling-time.carburizing-case-depth.json").read_text())
+    request = SettlingRequest.model_validate(settling["value"])
+    case = to_case(request, units).case
+    diffusivity, ratio = 2.3e-11, (0.45 - 1.0) / (0.20 - 1.0)
+    z = float(special.erfinv(ratio))
+    expected_s = (0.6e-3 / (2 * z)) ** 2 / diffusivity
+    found = solver.settle(case).time_s
+    elapsed = _median_ms(lambda: solver.settle(case), repeats=20)
+    print(
+        f"{'time for 0.6 mm to reach 0.45':40s} {elapsed:10.3f} {abs(found / expected_s - 1):10.1e}"
+    )
+    depth_example = json.loads((examples / "depth.carburized-case-after-a-shift.json").read_text())
+    depth_request = DepthRequest.model_validate(depth_example["value"])
+    depth_case = to_case(depth_request, units).case
+    at_s = 8 * 3600.0
+    expected_m = 2 * math.sqrt(diffusivity * at_s) * z
+    depth = solver.depth(depth_case, at_s, 0.45).depth_m
+    assert depth is not None
+    elapsed = _median_ms(lambda: solver.depth(depth_case, at_s, 0.45), repeats=20)
+    print(f"{'depth of 0.45 after 8 h':40s} {elapsed:10.3f} {abs(depth / expected_m - 1):10.1e}")
 
 
 def nonlinear_table(solver: Solver) -> None:
@@ -824,6 +857,7 @@ def main() -> None:
     real_bodies_table(solver)
     bath_table(solver)
     processes_table(solver)
+    carburizing_table(solver)
     nonlinear_table(solver)
     stepped_films_table(solver)
 

@@ -83,7 +83,7 @@ def to_case(request: rq.CaseRequest, units: Units) -> Translation:
             "/medium",
         )
     medium, schedule = _medium_and_schedule(translator, request, body)
-    start = in_potential(translator.start(request.initial, body), body)
+    start = in_potential(translator.start(request.initial, body, request.accuracy), body)
     faces = translator.faces(request, body, medium)
     raw_criterion = getattr(request, "criterion", None)
     criterion = translator.criterion(raw_criterion, body) if raw_criterion is not None else None

@@ -33,8 +33,10 @@ BOLTZMANN = 1.380649e-23
 # The length a semi-infinite body's film Biot number is computed on before the solver
 # sizes its slab (it only carries k_eff = Bi·D/length from request to solver).
 SEMI_INFINITE_REFERENCE_M = 1e-3
-# Chords a periodic start's cosine is drawn with (largest sag 1.2e-6 of the amplitude).
-PERIODIC_CHORDS = 1024
+# A periodic start's cosine is drawn with chords whose largest sag is at most this share of
+# the accuracy asked (times the amplitude): the fewest, a power of two, between the bounds.
+PERIODIC_SAG_PER_ACCURACY = 0.2
+PERIODIC_CHORDS = (64, 8192)
 # Heat inputs: wider than any real material (aerogels to diamond, gases to metals).
 CONDUCTIVITY_RANGE = (1e-6, 1e5)
 DENSITY_RANGE = (1e-3, 1e5)

@@ -11,6 +11,7 @@ from service.api.ranges import (
     HOLLOW_WALL_MIN,
     LENGTH_RANGE_M,
     PERIODIC_CHORDS,
+    PERIODIC_SAG_PER_ACCURACY,
     RESISTANCE_RANGE,
 )
 from service.api.translate_media import MediaMixin
@@ -236,20 +237,28 @@ class BodiesMixin(MediaMixin):
         self,
         request: rq.UniformStart | rq.BandStart | rq.ProfileStart | rq.PeriodicStart,
         body: Body,
+        accuracy: float = 1e-4,
     ) -> Start:
         extent, inner = body.extent_m, body.inner_m
         if isinstance(request, rq.PeriodicStart):
-            # mean + amplitude·cos(πx/cell) by chords: their largest sag is
-            # amplitude·(1 − cos(π/(2N))) ≈ 1.2e-6 of the amplitude for N = 1024
-            x = np.linspace(0.0, extent, PERIODIC_CHORDS + 1)
+            # mean + amplitude·cos(πx/cell) by N chords: their largest sag is
+            # amplitude·(1 − cos(π/(2N))), carried into the error estimate; N is the fewest
+            # power of two that keeps it within a share of the accuracy (256 at 1e-4)
+            fewest, most = PERIODIC_CHORDS
+            count = fewest
+            while count < most and 1.0 - math.cos(math.pi / (2 * count)) > (
+                PERIODIC_SAG_PER_ACCURACY * accuracy
+            ):
+                count *= 2
+            x = np.linspace(0.0, extent, count + 1)
             wave = request.mean + request.amplitude * np.cos(np.pi * x / extent)
             chords = Start.from_pieces(
                 [
                     (float(x[i]), float(x[i + 1]), float(wave[i]), float(wave[i + 1]))
-                    for i in range(PERIODIC_CHORDS)
+                    for i in range(count)
                 ]
             )
-            sag = 1.0 - math.cos(math.pi / (2 * PERIODIC_CHORDS))
+            sag = 1.0 - math.cos(math.pi / (2 * count))
             return replace(chords, representation_error=sag)
         if isinstance(request, rq.UniformStart):
             return Start.uniform(extent, request.value, inner)

@@ -163,10 +163,13 @@ class SeriesEngine:
         """The expansions here are for solid cylinders and spheres and for slabs with the same
         condition on both faces; hollow bodies and slabs whose faces differ go to the
         finite-volume engine."""
-        if case.medium.reaction_per_s > 0:
+        if case.medium.reaction_per_s > 0 and case.faces.outer.kind not in (
+            SurfaceKind.FIXED_VALUE,
+            SurfaceKind.CONVECTIVE,
+        ):
             raise NotApplicable(
-                "the series engine covers bodies without reaction; a reacting body is solved "
-                "by the finite_volume engine"
+                "the series engine covers a reacting body with held or convective surfaces; a "
+                "sealed one is solved by the finite_volume engine"
             )
         if case.bath is not None:
             raise NotApplicable(
@@ -261,6 +264,13 @@ class SeriesEngine:
 
         spectrum = self._spectrum(case, count)
         families = FAMILIES[body.geometry]
+        reaction = case.medium.reaction_per_s
+        # reaction: the final state c_f solves ∇²c_f = φ²·c_f (φ² = k·Lc²/D, in ξ) with the
+        # surface condition of the value v it is held or filmed toward, and Green's identity
+        # with ∇²ψ = −ζ²·ψ gives ⟨c_f, ψ⟩ = v·⟨ψ⟩·ζ²/(ζ² + φ²): the uniform value's projection,
+        # shrunk; the deviation's modes then decay at D·ζ²/Lc² + k
+        modulus_squared = reaction * length**2 / diffusivity
+        surface_value = case.faces.outer.value
         amplitudes = []
         tails: list[tuple[float, float, float, float]] = []
         is_uniform = start.x0.size == 1 and start.v0[0] == start.v1[0]
@@ -273,6 +283,11 @@ class SeriesEngine:
                 m0, m1 = family.moments(zeta, xi0, xi1)
                 projection = (intercept @ m0 + slope @ m1) / family.body_measure
                 amplitude = np.where(zeta > 0, projection / root_norm, 0.0)
+            if reaction > 0:
+                shrink = zeta**2 / (zeta**2 + modulus_squared)
+                amplitude = amplitude + np.where(
+                    zeta > 0, table.mean * (final - surface_value * shrink), 0.0
+                )
             amplitudes.append(amplitude)
             last = slice(zeta.size // 2, None)
             tails.append(
@@ -297,6 +312,8 @@ class SeriesEngine:
 
         def tail(time_s: float) -> TailBound:
             fourier = time_s * diffusivity / length**2
+            # every mode's reaction factor e^{−k·t} (its square in the squared sums)
+            consumed = math.exp(-reaction * time_s)
             sup = square = energy = 0.0
             for zeta_last, spacing, sup_amplitude, amplitude in tails:
                 sup += sup_amplitude * _tail_sum(zeta_last, spacing, fourier, 1)
@@ -304,21 +321,25 @@ class SeriesEngine:
                 energy += (amplitude * zeta_last / length) ** 2 * _tail_sum(
                     zeta_last, spacing, 2 * fourier, 3
                 )
-            return TailBound(sup=sup, square=square, energy=energy)
+            return TailBound(
+                sup=sup * consumed,
+                square=square * consumed**2,
+                energy=energy * consumed**2,
+            )
 
         samples = spectrum.unit_samples * body.extent_m
         return ModalSolution(
             engine=self.name,
             resolution=int(zeta_sorted.size),
             diffusivity_m2_per_s=diffusivity,
-            rates_per_s=diffusivity * (zeta_sorted / length) ** 2,
+            rates_per_s=diffusivity * (zeta_sorted / length) ** 2 + reaction,
             amplitudes=np.concatenate(amplitudes)[spectrum.order],
             mode_means=spectrum.mean,
             basis_at=basis_at,
             sample_positions_m=samples,
             refine_max=True,
             valid_from_s=valid_from_s,
-            slowest_rate_per_s=diffusivity * (spectrum.slowest_zeta / length) ** 2,
+            slowest_rate_per_s=diffusivity * (spectrum.slowest_zeta / length) ** 2 + reaction,
             tail=tail,
             sample_basis_of=lambda: spectrum.samples,
         )

@@ -22,6 +22,7 @@ of Heat in Solids*, 2nd ed. (1959), §3.10, §7.7, §9.9.
 
 from __future__ import annotations
 
+import math
 from collections.abc import Callable
 from dataclasses import dataclass
 
@@ -162,14 +163,22 @@ class ModeFamily:
     def _series_moments(
         self, zeta: FloatArray, a: FloatArray, b: FloatArray
     ) -> tuple[FloatArray, FloatArray]:
-        k = np.arange(self.phi_series.size)
+        # terms until (ζ·reach)^(2k) is below rounding of the first (one term when ζ = 0,
+        # the constant mode, which is often the only small one)
+        largest = float(zeta.max()) * float(max(np.abs(a).max(), np.abs(b).max()))
+        terms = self.phi_series.size
+        if largest == 0.0:
+            terms = 1
+        elif largest < 1.0:
+            terms = min(terms, 1 + math.ceil(math.log(1e-17) / (2 * math.log(largest))))
+        k = np.arange(terms)
         power = 2 * k + self.parity
         out = []
         for j in (0, 1):
             exponent = power + j + self.weight_power + 1
             span = (b[:, None] ** exponent - a[:, None] ** exponent) / exponent  # [intervals, k]
             zeta_power = zeta[None, :] ** power[:, None]  # [k, modes]
-            out.append(span @ (self.phi_series[:, None] * zeta_power))
+            out.append(span @ (self.phi_series[:terms, None] * zeta_power))
         return out[0], out[1]
 
 

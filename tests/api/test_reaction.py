@@ -55,8 +55,8 @@ def test_effectiveness_factor_is_thieles(client: TestClient, shape: str) -> None
 def test_vanishing_rate_is_the_foundation(client: TestClient) -> None:
     plain = _post(client, _case("sphere", None))
     slow = _post(client, _case("sphere", "1e-15 1/s"))
-    assert slow["method"]["engine"] == "finite_volume"
-    assert slow["time_s"] == pytest.approx(plain["time_s"], rel=1e-4)
+    assert slow["method"]["engine"] == "series"
+    assert slow["time_s"] == pytest.approx(plain["time_s"], rel=1e-9)
 
 
 def test_reacting_slab_against_its_sine_series(client: TestClient) -> None:
@@ -91,7 +91,24 @@ def test_reacting_slab_against_its_sine_series(client: TestClient) -> None:
 
     expected = optimize.brentq(lambda t: ratio(t) - 0.01, 1.0, 1e5, xtol=1e-9)
     body = _post(client, _case("slab", f"{rate} 1/s"))
-    assert body["time_s"] == pytest.approx(expected, rel=1e-4)
+    assert body["method"]["engine"] == "series"
+    assert body["time_s"] == pytest.approx(expected, rel=1e-6)
+
+
+@pytest.mark.parametrize("shape", ["slab", "cylinder", "sphere"])
+def test_reacting_series_and_finite_volumes_agree(client: TestClient, shape: str) -> None:
+    """Through a film (Bi = 5): the series (the final state's projection in closed form by
+    Green's identity) and the finite volumes (their own discrete steady state), within the
+    finite volumes' estimate."""
+    case = {
+        **_case(shape, "2e-3 1/s"),
+        "surface": {"kind": "convective", "biot": 5, "ambient": 1},
+    }
+    series = _post(client, case)
+    volumes = _post(client, {**case, "engine": "finite_volume"})
+    assert series["method"]["engine"] == "series"
+    error = abs(volumes["time_s"] / series["time_s"] - 1)
+    assert error <= max(2 * volumes["method"]["estimated_relative_error"], 1e-6)
 
 
 @pytest.mark.parametrize(
