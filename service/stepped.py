@@ -28,6 +28,7 @@ from service.answers import (
     surroundings_assumption,
 )
 from service.engines.finite_volume import build_mesh, three_grid_estimate
+from service.engines.rosenbrock import WorkBudget
 from service.engines.stepping import SteppedRun, history_in_time, step_in_time
 from service.errors import NumericalFailure
 from service.measures import (
@@ -50,6 +51,8 @@ NONLINEAR_RTOL_PER_ACCURACY = 1.0
 NONLINEAR_TIGHTER = 4.0
 NONLINEAR_MIN_RTOL = 1e-11
 NONLINEAR_STEPPING_SAFETY = 3.0
+# The steps all the runs of one request may take together (about 3–5 s of work).
+STEP_BUDGET = 50_000
 
 # A time-stepped history's grid: this many cells over the body.
 HISTORY_STEPPED_CELLS = 256
@@ -75,7 +78,11 @@ _STEPPED_TRANSPORT = {
 
 
 def _stepped_time(
-    case: Case, faces: FloatArray, rtol: float, guess_s: float | None = None
+    case: Case,
+    faces: FloatArray,
+    rtol: float,
+    budget: WorkBudget,
+    guess_s: float | None = None,
 ) -> SteppedRun:
     """One stepped run to the criterion. Under a schedule the run stops at its end; when the
     criterion is not met by then, the soak is lengthened until it is met exactly at the end
@@ -84,18 +91,20 @@ def _stepped_time(
     another grid, narrows the search."""
     schedule = case.schedule
     if schedule is None:
-        return step_in_time(case, faces, rtol)
+        return step_in_time(case, faces, rtol, budget=budget)
     runs: dict[float, SteppedRun] = {}  # by lengthening, to the lengthened schedule's end
 
     def at_end(extra_s: float) -> float:
         if extra_s not in runs:
             longer = replace(case, schedule=schedule.with_soak_extended(extra_s))
             end_s = schedule.duration_s + extra_s
-            runs[extra_s] = step_in_time(longer, faces, rtol, until_s=end_s, stop_when_met=False)
+            runs[extra_s] = step_in_time(
+                longer, faces, rtol, until_s=end_s, stop_when_met=False, budget=budget
+            )
         return runs[extra_s].shortfall
 
     if guess_s is None or guess_s <= 0:
-        first = step_in_time(case, faces, rtol, until_s=schedule.duration_s)
+        first = step_in_time(case, faces, rtol, until_s=schedule.duration_s, budget=budget)
         if first.met:
             return first
         runs[0.0] = replace(first, met=False)
@@ -107,7 +116,7 @@ def _stepped_time(
         low, high = guess_s - step, guess_s + step
         while at_end(low) <= 0:
             if low == 0.0:  # met within the schedule on this grid after all
-                return step_in_time(case, faces, rtol, until_s=schedule.duration_s)
+                return step_in_time(case, faces, rtol, until_s=schedule.duration_s, budget=budget)
             high, step = low, 4 * step
             low = max(low - step, 0.0)
     limit = (
@@ -189,9 +198,10 @@ def settle_stepped(case: Case, furnace_lag: FurnaceLag) -> SettlingAnswer:
     rtol = NONLINEAR_RTOL_PER_ACCURACY * case.accuracy
 
     found: list[float] = []  # the soak lengthenings found so far, the last first used
+    budget = WorkBudget(STEP_BUDGET)
 
     def run(faces: FloatArray, rtol: float) -> SteppedRun:
-        stepped = _stepped_time(case, faces, rtol, found[-1] if found else None)
+        stepped = _stepped_time(case, faces, rtol, budget, found[-1] if found else None)
         if case.schedule is not None and stepped.time_s > case.schedule.duration_s:
             found.append(stepped.time_s - case.schedule.duration_s)
         return stepped

@@ -428,6 +428,22 @@ def _nonlinear_case(request: rq.CaseRequest, case: Case) -> Case:
             )
     law = case.medium.nonlinear
     assert law is not None
+    low, high = case.start.value_range
+    values = np.array([low, high, case.final_value])
+    with np.errstate(over="ignore"):
+        reached = law.diffusivity(values)
+    bottom, top = DIFFUSIVITY_RANGE_M2_PER_S
+    outside = ~((reached >= bottom) & (reached <= top))
+    if np.any(outside):
+        index = int(np.argmax(outside))
+        raise InvalidInput(
+            f"D(c) reaches {float(reached[index]):.3g} m^2/s at the value "
+            f"{float(values[index]):.6g} this body takes; accepted is {bottom:g} to {top:g} "
+            "m^2/s over the values between the start and the final state",
+            "/medium/diffusivity_exponential"
+            if request.medium is not None and request.medium.diffusivity_exponential is not None
+            else "/medium/diffusivity_table",
+        )
     scale = float(law.diffusivity(np.array(case.final_value)))
     # the films' Biot numbers were taken on the placeholder D; k = Bi·D/Lc stays as given
     ratio = case.medium.diffusivity_m2_per_s / scale

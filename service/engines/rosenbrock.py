@@ -73,6 +73,23 @@ class Tridiagonal:
     upper: FloatArray
 
 
+@dataclass
+class WorkBudget:
+    """The steps (accepted and rejected) that all the runs of one request may still take;
+    made afresh for each request."""
+
+    steps_left: int
+
+    def spend(self) -> None:
+        self.steps_left -= 1
+        if self.steps_left < 0:
+            raise NotApplicable(
+                "the time stepping needed more work than one request is allowed; ask a lower "
+                "accuracy or an earlier criterion",
+                "/accuracy",
+            )
+
+
 @dataclass(frozen=True)
 class StepperRun:
     """Where the event was met (``met``), or the end of the horizon when it was not: the time
@@ -103,6 +120,7 @@ def integrate_to_event(
     atol: float,
     is_autonomous: bool = True,
     outputs_s: FloatArray | None = None,
+    budget: WorkBudget | None = None,
 ) -> StepperRun:
     """Step dy/dt = rhs(t, y) from ``start`` at t = 0 until ``event(y)`` first falls to zero
     or below, or to ``horizon_s`` (then the run says it was not ``met``). Without an event the
@@ -111,7 +129,8 @@ def integrate_to_event(
     The local error of every accepted step is within ``atol + rtol·|y|`` in the largest
     component. A non-autonomous ``rhs`` gets its time derivative by a one-sided difference.
     ``outputs_s`` (ascending, within the horizon) are times whose states are returned, read
-    from the interpolant of the step that covers each.
+    from the interpolant of the step that covers each. Every step is charged to ``budget``
+    when one is given, and no run takes more than ``_MAX_STEPS``.
     """
     y = np.asarray(start, dtype=float)
     t = 0.0
@@ -131,6 +150,8 @@ def integrate_to_event(
                 "accuracy or an earlier criterion",
                 "/accuracy",
             )
+        if budget is not None:
+            budget.spend()
         h = min(h, horizon_s - t)
         matrix = jacobian(t, y)
         dfdt = None if is_autonomous else _time_derivative(rhs, t, y, f0, h)

@@ -34,7 +34,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from service.engines.finite_volume import mirrored_extent
-from service.engines.rosenbrock import Tridiagonal, integrate_to_event
+from service.engines.rosenbrock import Tridiagonal, WorkBudget, integrate_to_event
 from service.errors import NumericalFailure
 from service.physics import Case, NonlinearDiffusivity, SurfaceKind
 
@@ -42,7 +42,8 @@ __all__ = ["SteppedHistory", "SteppedRun", "history_in_time", "step_in_time"]
 
 FloatArray = NDArray[np.float64]
 
-# The stepping stops at this many diffusion times (Lc²/D at the final value) without an event.
+# The stepping stops at this many of the body's slowest time scales (Lc²/D at the final
+# value, or through a weak film Lc²/(Bi·D)) without an event.
 _HORIZON = 1e4
 # Newton steps for a film's surface value (the start is exact for a constant D; a D(c) takes a
 # few).
@@ -78,6 +79,8 @@ class _Line:
     atol_scale: float
     is_autonomous: bool
     cells: int
+    # the longest time scale: Lc²/D, or through the weakest film Lc²/(Bi·D) when longer
+    slowest_time_s: float
     # (time, cell values) → the surface nodes (position, value) at the inner and outer ends,
     # where a held or filmed surface has one
     surface_nodes: Callable[[float, FloatArray], tuple[list[tuple[float, float]], ...]]
@@ -215,6 +218,8 @@ def _build_line(case: Case, faces: FloatArray) -> _Line:
         atol_scale=max(max0, abs(final), 1e-300),
         is_autonomous=schedule is None and surroundings is None,
         cells=centres.size * (2 if mirrored else 1),
+        slowest_time_s=case.diffusion_time_s
+        * max([1.0, *(1.0 / e.biot for e in case.faces.exchanging if e.biot > 0)]),
         surface_nodes=surface_nodes,
     )
 
@@ -226,10 +231,12 @@ def step_in_time(
     until_s: float | None = None,
     *,
     stop_when_met: bool = True,
+    budget: WorkBudget | None = None,
 ) -> SteppedRun:
     """The time the criterion is met, stepping on the cells between ``faces`` (from
     ``finite_volume.build_mesh``) at step tolerance ``rtol``; with ``until_s`` no later than
-    that (clock time under a schedule), and with ``stop_when_met`` false always to it."""
+    that (clock time under a schedule), and with ``stop_when_met`` false always to it. Its
+    steps are charged to ``budget``."""
     criterion = case.criterion
     assert criterion is not None
     line = _build_line(case, faces)
@@ -248,16 +255,18 @@ def step_in_time(
         line.jacobian,
         start,
         event if stop_when_met else None,
-        horizon_s=until_s if until_s is not None else _HORIZON * case.diffusion_time_s,
+        horizon_s=until_s if until_s is not None else _HORIZON * line.slowest_time_s,
         # a millionth of the diffusion time (at D_ref, a schedule's fastest)
         first_step_s=1e-6 * case.diffusion_time_s,
         rtol=rtol,
         atol=rtol * line.atol_scale,
         is_autonomous=line.is_autonomous,
+        budget=budget,
     )
     if not run.met and until_s is None:
         raise NumericalFailure(
-            f"the time stepping did not reach the criterion within {_HORIZON:g} diffusion times"
+            f"the time stepping did not reach the criterion within {_HORIZON:g} times the "
+            "body's slowest time scale (diffusion, or exchange through its film)"
         )
     reported: dict[str, float | None] = dict(line.measures(run.state))
     if criterion.measure == "reaches":
@@ -284,6 +293,7 @@ def history_in_time(
     times_s: FloatArray,
     profile_times: list[int],
     positions_m: FloatArray,
+    budget: WorkBudget | None = None,
 ) -> SteppedHistory:
     """One stepped run through ``times_s`` (ascending): each measure at every time, and the
     body-side profile at ``positions_m`` for the times indexed by ``profile_times`` (linear
@@ -301,6 +311,7 @@ def history_in_time(
         atol=rtol * line.atol_scale,
         is_autonomous=line.is_autonomous,
         outputs_s=times_s,
+        budget=budget,
     )
     assert run.outputs is not None
     measures = {

@@ -185,6 +185,22 @@ def _drying_lines(cells: int) -> float:
     return float(result.t_events[0][0])
 
 
+def test_a_weak_film_is_stepped_past_many_diffusion_times(client: TestClient) -> None:
+    """k = 1e-12 m/s: exchange through the film (~Lc/k) is far slower than diffusion, and the
+    body nearly uniform; the stepped time is the lumped one, ln(10)·Lc/k for 90 % of the
+    loss, within the small internal resistance (Bi ≈ 5e-6)."""
+    body = _post(
+        client,
+        {
+            **DRYING,
+            "medium": {"diffusivity_exponential": {"d0": 1e-10, "beta": 1e-9}},
+            "surface": {"kind": "convective", "transfer_coefficient": "1e-12 m/s", "ambient": 0},
+        },
+    )
+    lumped = math.log(10) * 2e-3 / 1e-12
+    assert body["time_s"] == pytest.approx(lumped, rel=1e-4)
+
+
 def test_drying_through_a_film_against_an_independent_method_of_lines(
     client: TestClient,
 ) -> None:
@@ -203,6 +219,10 @@ def test_drying_through_a_film_against_an_independent_method_of_lines(
     ("change", "pointer"),
     [
         ({"surface": {"kind": "convective", "biot": 1, "ambient": 1}}, "/surface/biot"),
+        (
+            {"medium": {"diffusivity_exponential": {"d0": 1e-12, "beta": 100}}},
+            "/medium/diffusivity_exponential",
+        ),
         (
             {"surface": {"kind": "bath"}, "bath": {"capacity_ratio": 2, "value": 1}},
             "/surface",

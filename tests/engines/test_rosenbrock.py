@@ -8,7 +8,8 @@ import numpy as np
 import pytest
 from scipy import linalg, optimize
 
-from service.engines.rosenbrock import Tridiagonal, _rodas3_step, integrate_to_event
+from service.engines.rosenbrock import Tridiagonal, WorkBudget, _rodas3_step, integrate_to_event
+from service.errors import NotApplicable
 
 # three uncoupled copies of a scalar equation: LAPACK's tridiagonal routines want n ≥ 3
 _COPIES = 3
@@ -106,3 +107,21 @@ def test_an_event_not_met_within_the_horizon_ends_there() -> None:
     assert not run.met
     assert run.time_s == pytest.approx(10.0, rel=1e-12)
     assert run.state[0] == pytest.approx(1 / math.sqrt(21), rel=1e-6)
+
+
+def test_a_spent_budget_stops_the_run() -> None:
+    """The steps of every run of a request are charged to one budget; running out is a
+    refusal naming the accuracy, not an endless run."""
+    budget = WorkBudget(5)
+    with pytest.raises(NotApplicable, match="more work"):
+        integrate_to_event(
+            _cubic_decay,
+            _cubic_jacobian,
+            np.ones(_COPIES),
+            None,
+            horizon_s=1e3,
+            first_step_s=1e-6,
+            rtol=1e-10,
+            atol=1e-12,
+            budget=budget,
+        )
