@@ -54,6 +54,8 @@ DIMENSIONS: dict[str, Dimension] = {
     "area": Dimension("[length]**2", "an area", "m^2"),
     "rate": Dimension("1/[time]", "a rate constant", "1/s"),
     "temperature": Dimension("[temperature]", "a temperature", "K"),
+    # a change of temperature per time: pint reads degC/min as a difference (1/60 K/s)
+    "temperature_rate": Dimension("[temperature]/[time]", "a temperature change per time", "K/s"),
     "molar_energy": Dimension(
         "[mass]*[length]**2/[time]**2/[substance]", "an energy per mole", "J/mol"
     ),

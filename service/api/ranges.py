@@ -25,6 +25,8 @@ RATE_RANGE = (0.0, 1e9)
 # Temperatures (K), durations (s), D0 (m²/s) and activation temperatures Q/R (K).
 TEMPERATURE_RANGE_K = (1e-3, 1e5)
 DURATION_RANGE_S = (1e-9, 1e11)
+# A furnace or bath ramp rate (K/s): from a kelvin in 30 years to 1e6 K/s.
+RAMP_RATE_RANGE_K_PER_S = (1e-9, 1e6)
 D0_RANGE = (1e-30, 1e10)
 ACTIVATION_RANGE_K = (0.0, 1e7)
 # Gas constant R and Boltzmann's constant k_B (exact in the 2019 SI).

@@ -13,7 +13,9 @@ from service.api.ranges import (
     D0_RANGE,
     DENSITY_RANGE,
     DIFFUSIVITY_RANGE_M2_PER_S,
+    DURATION_RANGE_S,
     GAS_CONSTANT,
+    RAMP_RATE_RANGE_K_PER_S,
     RATE_RANGE,
     SPECIFIC_HEAT_RANGE,
     in_range,
@@ -149,6 +151,19 @@ class MediaMixin(TranslatorBase):
                 )
         return Arrhenius(d0, activation)
 
+    def _ramp_duration(self, raw: float | str, change_k: float, pointer: str) -> float:
+        """How long a ramp at ``raw`` (a temperature difference per time) takes to change the
+        temperature by ``change_k``."""
+        rate = abs(self.units.to_si(raw, "temperature_rate", pointer))
+        rate = in_range(rate, RAMP_RATE_RANGE_K_PER_S, "a ramp rate", "K/s", pointer)
+        if change_k == 0.0:
+            raise InvalidInput(
+                "a ramp to the temperature it starts at takes no time at any rate; give a "
+                "'hold' instead",
+                pointer,
+            )
+        return in_range(abs(change_k) / rate, DURATION_RANGE_S, "a ramp's duration", "s", pointer)
+
     def schedule(self, steps: list[rq.ScheduleStep], law: Arrhenius) -> Schedule:
         """Holds and ramps from the starting temperature, in kelvin and seconds."""
         first = steps[0]
@@ -166,9 +181,13 @@ class MediaMixin(TranslatorBase):
                 current = self.temperature(step.at, at + "/at")
                 segments.append(ScheduleSegment(current, current, duration, True))
             else:
-                assert step.ramp_to is not None and step.over is not None
-                duration = self._duration(step.over, at + "/over")
+                assert step.ramp_to is not None
                 target = self.temperature(step.ramp_to, at + "/ramp_to")
+                if step.over is not None:
+                    duration = self._duration(step.over, at + "/over")
+                else:
+                    assert step.rate is not None
+                    duration = self._ramp_duration(step.rate, target - current, at + "/rate")
                 segments.append(ScheduleSegment(current, target, duration, False))
                 current = target
         return Schedule(law, tuple(segments))

@@ -89,13 +89,19 @@ class ArrheniusRequest(_Strict):
 
 class ScheduleStep(_Strict):
     """One step of a temperature schedule: {'start_at': T} first, then {'hold': duration,
-    'at': T} or {'ramp_to': T, 'over': duration}. Temperatures carry a unit."""
+    'at': T} or {'ramp_to': T, 'over': duration} or {'ramp_to': T, 'rate': '10 degC/min'}.
+    Temperatures carry a unit; a rate is a temperature difference per time."""
 
     start_at: Quantity | None = None
     hold: Quantity | None = Field(None, description="How long (s, or 'number unit').")
     at: Quantity | None = Field(None, description="The hold's temperature.")
     ramp_to: Quantity | None = Field(None, description="The temperature a ramp ends at.")
     over: Quantity | None = Field(None, description="The ramp's duration.")
+    rate: Quantity | None = Field(
+        None,
+        description="The ramp's rate, in place of 'over': a temperature difference per time "
+        "(K/s, or 'number unit' such as '10 degC/min'; its sign is the ramp's direction).",
+    )
 
     @model_validator(mode="after")
     def _one_form(self) -> ScheduleStep:
@@ -103,13 +109,17 @@ class ScheduleStep(_Strict):
             "start_at": (self.start_at,),
             "hold": (self.hold, self.at),
             "ramp": (self.ramp_to, self.over),
+            "ramp at a rate": (self.ramp_to, self.rate),
         }
         complete = [name for name, fields in forms.items() if all(f is not None for f in fields)]
-        given = sum(f is not None for fields in forms.values() for f in fields)
+        given = sum(
+            f is not None
+            for f in (self.start_at, self.hold, self.at, self.ramp_to, self.over, self.rate)
+        )
         if len(complete) != 1 or given != len(forms[complete[0]]):
             raise ValueError(
-                "each step is {'start_at': T}, {'hold': duration, 'at': T} or "
-                "{'ramp_to': T, 'over': duration}"
+                "each step is {'start_at': T}, {'hold': duration, 'at': T}, "
+                "{'ramp_to': T, 'over': duration} or {'ramp_to': T, 'rate': difference/time}"
             )
         return self
 

@@ -199,3 +199,49 @@ def test_thermal_diffusivity_goes_with_a_schedule(
     response = client.post("/v1/settling-time", json={**CASE, **change})
     assert response.status_code == 422, response.text
     assert pointer in [e["pointer"] for e in response.json()["errors"]]
+
+
+@pytest.mark.parametrize(
+    ("rate", "minutes"),
+    [("10 degC/min", 10.0), ("10 K/min", 10.0), ("10 degF/min", 18.0), ("-600 degC/h", 10.0)],
+)
+def test_a_ramp_rate_is_a_temperature_difference(
+    client: TestClient, rate: str, minutes: float
+) -> None:
+    """A rate of 10 °C/min is 10 K/min (a difference, not 283 K/min), 10 °F/min is 50/9 K/min
+    (°F = 5/9 K); a 100 K ramp then takes 10 or 18 min, and the answer equals the same ramp
+    given by its duration."""
+    start = [{"start_at": "900 degC"}]
+    soak = [{"hold": "20 h", "at": "1000 degC"}]
+    by_rate = _post(
+        client,
+        medium={"arrhenius": LAW},
+        schedule=[*start, {"ramp_to": "1000 degC", "rate": rate}, *soak],
+    )
+    by_duration = _post(
+        client,
+        medium={"arrhenius": LAW},
+        schedule=[*start, {"ramp_to": "1000 degC", "over": f"{minutes} min"}, *soak],
+    )
+    assert by_rate["time_s"] == pytest.approx(by_duration["time_s"], rel=1e-12)
+
+
+@pytest.mark.parametrize(
+    ("ramp", "pointer"),
+    [
+        ({"ramp_to": "1000 degC", "rate": "10 degC"}, "/schedule/1/rate"),
+        ({"ramp_to": "900 degC", "rate": "10 degC/min"}, "/schedule/1/rate"),
+        ({"ramp_to": "1000 degC", "rate": "10 degC/min", "over": "1 h"}, "/schedule/1"),
+    ],
+)
+def test_ramp_rate_errors_name_the_field(
+    client: TestClient, ramp: dict[str, Any], pointer: str
+) -> None:
+    request = {
+        **CASE,
+        "medium": {"arrhenius": LAW},
+        "schedule": [{"start_at": "900 degC"}, ramp, {"hold": "1 h", "at": "1000 degC"}],
+    }
+    response = client.post("/v1/settling-time", json=request)
+    assert response.status_code == 422, response.text
+    assert any(e["pointer"].startswith(pointer) for e in response.json()["errors"])
