@@ -475,6 +475,56 @@ class Solver:
             cautions=list(CAUTIONS),
         )
 
+    def _history_product(
+        self, case: Case, times: FloatArray, chosen: NDArray[np.intp]
+    ) -> HistoryAnswer:
+        """A bar, block or short cylinder over time: the measures that separate (the centre's
+        deviation as the largest, the mean square, the fraction equilibrated) from each
+        direction's exact series, and profiles along the first direction through the centre,
+        c = c_f + (c0 − c_f)·Π θ_i."""
+        product = case.product
+        assert product is not None
+        facts = Facts.of(case)
+        series = self.engines["series"]
+        floor_s = FOURIER_FLOOR * min(d.diffusion_time_s for d in product.directions)
+        solutions = [
+            series.solution(d, min(floor_s, float(np.min(times)))) for d in product.directions
+        ]
+        centres = [
+            d.body.extent_m / 2 if d.body.geometry is Geometry.SLAB else 0.0
+            for d in product.directions
+        ]
+        measures: dict[str, list[float | None]] = {}
+        for name, kind in (
+            ("max_deviation", "centre"),
+            ("mean_square_deviation", "square"),
+            ("fraction_equilibrated", "mean"),
+        ):
+            values = ProductMeasure(facts, solutions, centres, kind, name, 1.0).values(times)
+            if name == "fraction_equilibrated":
+                values = 1.0 - values
+            measures[name] = [finite_or_none(float(v)) for v in values]
+        first = product.directions[0]
+        positions = np.linspace(first.body.inner_m, first.body.extent_m, SNAPSHOT_POINTS)
+        change = float(case.start.v0[0]) - facts.final_value
+        snapshots = []
+        for i in chosen.tolist():
+            at = np.array([times[i]])
+            theta = solutions[0].values_at(positions, at)[0] / change
+            for solution, centre in zip(solutions[1:], centres[1:], strict=True):
+                theta = theta * float(solution.values_at(np.array([centre]), at)[0, 0]) / change
+            profile = facts.final_value + change * theta
+            snapshots.append(Snapshot(float(times[i]), positions.tolist(), profile.tolist()))
+        return HistoryAnswer(
+            times_s=times.tolist(),
+            measures=measures,
+            snapshots=snapshots,
+            bath_values=None,
+            final_value=final_value_of(case),
+            engine="series",
+            resolution=sum(solution.resolution for solution in solutions),
+        )
+
     def _settle_semi_infinite(self, case: Case) -> SettlingAnswer:
         """A semi-infinite body as a symmetric slab deep enough that its middle is untouched
         at the answer: half-thickness ≥ 12·√(D·t) (erfc(6) ≈ 2e-17 of the change reaches
@@ -615,12 +665,6 @@ class Solver:
         self, case: Case, times_s: list[float] | None, time_count: int | None, snapshot_count: int
     ) -> HistoryAnswer:
         """Every defined measure at the given times (or log-spread around the settling time)."""
-        if case.product is not None:
-            raise InvalidInput(
-                "histories of bars, blocks and short cylinders are not offered here; ask "
-                "/v1/settling-time, or follow one direction as a slab or cylinder",
-                "/body",
-            )
         if times_s is None:
             assert time_count is not None
             settled = self.settle(case).time_s
@@ -651,6 +695,8 @@ class Solver:
         )
         if case.needs_stepping:
             return history_stepped(case, times, chosen)
+        if case.product is not None:
+            return self._history_product(case, times, chosen)
         reach = case.body.extent_m
         if case.semi_infinite is not None:
             # deep enough for the latest time asked; profiles down to about 6·√(D·t)

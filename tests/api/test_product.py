@@ -102,10 +102,31 @@ def test_product_errors_name_the_field(
     assert pointer in [e["pointer"] for e in response.json()["errors"]]
 
 
-def test_history_of_a_product_body_is_refused_with_a_reason(client: TestClient) -> None:
-    response = client.post(
-        "/v1/history",
-        json={**COMMON, "body": {"shape": "bar", "sides": ["1 cm", "2 cm"]}, "times": [10.0]},
-    )
-    assert response.status_code == 422
-    assert response.json()["errors"][0]["pointer"] == "/body"
+def test_block_history_is_the_product_of_its_slab_histories(client: TestClient) -> None:
+    """A 4 × 6 × 8 cm block: its centre's deviation, mean square and unexchanged fraction at
+    each time are the products of three slabs' (each its own history on the eigen path), and
+    its profile along the first side through the centre is the first slab's profile scaled by
+    the other two centres' θ."""
+    times = [60.0, 600.0, 3000.0]
+    sides = ["4 cm", "6 cm", "8 cm"]
+
+    def history(body: dict[str, Any]) -> Any:
+        request = {**COMMON, "body": body, "times": times, "snapshot_count": 3}
+        response = client.post("/v1/history", json=request)
+        assert response.status_code == 200, response.text
+        return response.json()
+
+    block = history({"shape": "block", "sides": sides})
+    slabs = [history({"shape": "slab", "thickness": side}) for side in sides]
+    for i in range(len(times)):
+        centre = math.prod(s["measures"]["max_deviation"][i] for s in slabs)
+        square = math.prod(s["measures"]["mean_square_deviation"][i] for s in slabs)
+        left = math.prod(1 - s["measures"]["fraction_equilibrated"][i] for s in slabs)
+        assert block["measures"]["max_deviation"][i] == pytest.approx(centre, rel=1e-6)
+        assert block["measures"]["mean_square_deviation"][i] == pytest.approx(square, rel=1e-6)
+        assert 1 - block["measures"]["fraction_equilibrated"][i] == pytest.approx(left, rel=1e-6)
+        others = math.prod(s["measures"]["max_deviation"][i] for s in slabs[1:])
+        first = [(v - 20) / 100 for v in slabs[0]["snapshots"][i]["values"]]
+        expected = [20 + 100 * theta * others for theta in first]
+        assert block["snapshots"][i]["positions_m"] == slabs[0]["snapshots"][i]["positions_m"]
+        assert block["snapshots"][i]["values"] == pytest.approx(expected, rel=1e-6, abs=1e-9)
