@@ -94,6 +94,9 @@ CASES = {
         0.0,
         Criterion("reaches", position_m=0.1e-3, value=0.5),
     ),
+    "Kirchhoff energy, held sheet": _body_case(
+        Geometry.SLAB, RISING, HELD, 0.0, Criterion("dirichlet_energy", tolerance=0.01)
+    ),
     "drying through a film": _body_case(
         Geometry.SLAB, RISING, FILM, 1.0, Criterion("fraction_equilibrated", fraction=0.9)
     ),

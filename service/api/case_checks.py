@@ -175,10 +175,11 @@ def _check_stepped_schedule(request: rq.CaseRequest, case: Case) -> None:
                 pointer,
             )
     criterion = case.criterion
-    if criterion is not None and criterion.measure not in _NONLINEAR_MEASURES:
+    offered = [m for m in _NONLINEAR_MEASURES if m != "dirichlet_energy"]
+    if criterion is not None and criterion.measure not in offered:
         raise InvalidInput(
             "a surface film or changing surroundings under a temperature schedule are stepped "
-            "in time and judged by " + ", ".join(_NONLINEAR_MEASURES),
+            "in time and judged by " + ", ".join(offered),
             "/criterion/measure",
         )
 
@@ -376,6 +377,7 @@ _NONLINEAR_MEASURES = (
     "max_deviation",
     "fraction_equilibrated",
     "reaches",
+    "dirichlet_energy",
 )
 
 
@@ -417,6 +419,16 @@ def _nonlinear_case(request: rq.CaseRequest, case: Case) -> Case:
         raise InvalidInput(
             "with a value-dependent diffusivity the body is judged by "
             + ", ".join(_NONLINEAR_MEASURES),
+            "/criterion/measure",
+        )
+    if (
+        criterion is not None
+        and criterion.measure == "dirichlet_energy"
+        and any(e.kind is SurfaceKind.CONVECTIVE for e in case.faces.ends)
+    ):
+        raise InvalidInput(
+            "with a value-dependent diffusivity the energy ∫|∇Φ|² (Φ = ∫D dc) is the one that "
+            "never rises for held or sealed surfaces; behind a film judge by another measure",
             "/criterion/measure",
         )
     for pointer, surface in _request_surfaces(request):

@@ -32,6 +32,7 @@ from dataclasses import dataclass
 
 import numpy as np
 from numpy.typing import NDArray
+from scipy import linalg
 
 from service.engines.finite_volume import mirrored_extent
 from service.engines.rosenbrock import Tridiagonal, WorkBudget, integrate_to_event
@@ -190,6 +191,10 @@ def _build_line(case: Case, faces: FloatArray) -> _Line:
     }
     if case.faces.exchanging and mean0 != 0.0:
         measure_of["fraction_equilibrated"] = lambda c: 1.0 - float(weights @ (c - final)) / mean0
+    if not films and surroundings is None and schedule is None:
+        measure_of["dirichlet_energy"] = _kirchhoff_energy(
+            law, inner_g, held, volumes, phi_surface, start
+        )
 
     def surface_nodes(t: float, c: FloatArray) -> tuple[list[tuple[float, float]], ...]:
         value = final if surroundings is None else surroundings.value_at(t)
@@ -330,6 +335,39 @@ def history_in_time(
         potential = np.interp(points, nodes, values)
         profiles.append(np.asarray(potential * case.partition_at(positions_m)))
     return SteppedHistory(measures, profiles, line.cells)
+
+
+def _kirchhoff_energy(
+    law: NonlinearDiffusivity,
+    inner_g: FloatArray,
+    held: FloatArray,
+    volumes: FloatArray,
+    phi_surface: float,
+    start: FloatArray,
+) -> Callable[[FloatArray], float]:
+    """The grid's E = Σ_faces g·(ΔΦ)² (held surfaces' gaps included), which never rises
+    (tests/engines/test_stepping.py), over λ1·Σ V·(Φ0 − Φ_ref)²: λ1 the grid's own slowest
+    non-zero rate of the operator with D = 1 (as the eigen engines normalise the Dirichlet
+    energy), Φ_ref the held surface's Φ, or for a sealed body the volume mean of Φ. By the
+    grid's Poincaré inequality the ratio is never below Σ V·(Φ − Φ_ref)²/Σ V·(Φ0 − Φ_ref)²."""
+    scale = np.sqrt(volumes)
+    diagonal = (np.r_[inner_g, 0.0] + np.r_[0.0, inner_g] + held) / volumes
+    off = -inner_g / (scale[:-1] * scale[1:])
+    sealed = not held.any()
+    rates = linalg.eigh_tridiagonal(
+        diagonal, off, eigvals_only=True, select="i", select_range=(0, 1)
+    )
+    slowest = float(rates[1] if sealed else rates[0])
+    phi0 = law.kirchhoff(start)
+    reference = float(volumes @ phi0) / float(np.sum(volumes)) if sealed else phi_surface
+    norm = slowest * float(volumes @ (phi0 - reference) ** 2)
+
+    def ratio(c: FloatArray) -> float:
+        phi = law.kirchhoff(c)
+        energy = float(inner_g @ np.diff(phi) ** 2) + float(held @ (phi - phi_surface) ** 2)
+        return energy / norm
+
+    return ratio
 
 
 @dataclass(frozen=True)

@@ -275,3 +275,34 @@ def test_history_crosses_the_criterion_at_the_settling_time(client: TestClient) 
     response = client.post("/v1/history", json=request)
     assert response.status_code == 200, response.text
     assert response.json()["measures"]["fraction_equilibrated"][0] == pytest.approx(0.9, abs=1e-4)
+
+
+@pytest.mark.parametrize(
+    ("surface", "initial"),
+    [
+        ({"kind": "fixed_value", "value": 1}, {"kind": "uniform", "value": 0}),
+        (
+            {"kind": "no_flux"},
+            {"kind": "band", "between": ["0 mm", "0.3 mm"], "inside": 1, "outside": 0},
+        ),
+    ],
+)
+def test_kirchhoff_energy_criterion_with_a_flat_law_is_the_dirichlet_energy(
+    client: TestClient, surface: dict[str, Any], initial: dict[str, Any]
+) -> None:
+    """With β → 0, Φ = D·c and ∫|∇Φ|² over λ1·∫(Φ0 − Φ_ref)² is the Dirichlet energy ratio the
+    exact series reports: held (Φ_ref the surface's) and sealed (Φ_ref the mean)."""
+    common = {
+        "body": {"shape": "slab", "thickness": "1 mm"},
+        "initial": initial,
+        "surface": surface,
+        "criterion": {"measure": "dirichlet_energy", "tolerance": 0.01},
+    }
+    flat = _post(
+        client, {**common, "medium": {"diffusivity_exponential": {"d0": 1e-10, "beta": 1e-9}}}
+    )
+    exact = _post(client, {**common, "medium": {"diffusivity": 1e-10}})
+    assert (flat["method"]["path"], exact["method"]["engine"]) == ("time_stepping", "series")
+    error = abs(flat["time_s"] / exact["time_s"] - 1)
+    assert error <= 1e-4
+    assert error <= max(2 * flat["method"]["estimated_relative_error"], 1e-6)
