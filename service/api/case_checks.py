@@ -124,12 +124,18 @@ def _check_separable(request: rq.CaseRequest, case: Case) -> None:
             "bath exchanges are not combined with a temperature schedule here",
             "/bath/exchanges",
         )
+    _refuse_given_biot(
+        request, "under a temperature schedule a film's Biot number k·Lc/D changes with D"
+    )
+
+
+def _refuse_given_biot(request: rq.CaseRequest, why: str) -> None:
+    """A film given by its Biot number where D is not one number: its transfer coefficient is
+    what stays fixed, so that is what must be given."""
     for pointer, surface in _request_surfaces(request):
         if isinstance(surface, rq.ConvectiveSurface) and surface.biot is not None:
             raise InvalidInput(
-                "under a temperature schedule a film's Biot number k·Lc/D changes with D: give "
-                "its 'transfer_coefficient' instead",
-                pointer + "/biot",
+                f"{why}: give the film's 'transfer_coefficient' instead", pointer + "/biot"
             )
 
 
@@ -431,13 +437,9 @@ def _nonlinear_case(request: rq.CaseRequest, case: Case) -> Case:
             "never rises for held or sealed surfaces; behind a film judge by another measure",
             "/criterion/measure",
         )
-    for pointer, surface in _request_surfaces(request):
-        if isinstance(surface, rq.ConvectiveSurface) and surface.biot is not None:
-            raise InvalidInput(
-                "with a value-dependent diffusivity a Biot number k·Lc/D has no one D to be on: "
-                "give the film's 'transfer_coefficient' instead",
-                pointer + "/biot",
-            )
+    _refuse_given_biot(
+        request, "with a value-dependent diffusivity a Biot number k·Lc/D has no one D to be on"
+    )
     law = case.medium.nonlinear
     assert law is not None
     low, high = case.start.value_range
