@@ -8,7 +8,9 @@ from typing import Any
 import numpy as np
 import pytest
 from fastapi.testclient import TestClient
-from scipy import integrate, optimize, sparse
+from scipy import integrate, optimize
+
+from tests.lines import mean_crossing_time
 
 
 def _post(client: TestClient, request: dict[str, Any]) -> Any:
@@ -168,21 +170,7 @@ def _drying_lines(cells: int) -> float:
         net[-1] -= k * surface
         return net / h
 
-    def event(t: float, c: np.ndarray) -> float:
-        return float(np.mean(c)) - 0.1
-
-    event.terminal = True  # type: ignore[attr-defined]
-    result = integrate.solve_ivp(
-        rhs,
-        (0.0, 1e7),
-        np.ones(cells),
-        method="BDF",
-        events=event,
-        rtol=1e-10,
-        atol=1e-12,
-        jac_sparsity=sparse.diags([1.0, 1.0, 1.0], [-1, 0, 1], shape=(cells, cells)),
-    )
-    return float(result.t_events[0][0])
+    return mean_crossing_time(rhs, np.ones(cells), 0.1, 1e7)
 
 
 def test_a_weak_film_is_stepped_past_many_diffusion_times(client: TestClient) -> None:

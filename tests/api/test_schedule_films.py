@@ -9,7 +9,8 @@ from typing import Any
 import numpy as np
 import pytest
 from fastapi.testclient import TestClient
-from scipy import integrate, sparse
+
+from tests.lines import mean_crossing_time
 
 # D(T) = D_ref·exp(−(Q/R)(1/T − 1/T_ref)); a 10 mm sheet loading from 0.2 toward 1 through a
 # film of k = 2e-8 m/s (Bi = 10 at 1000 °C on the 5 mm half-thickness).
@@ -86,21 +87,8 @@ def _method_of_lines_time(cells: int) -> float:
         net[-1] += (1.0 - c[-1]) / (1 / FILM_M_PER_S + (h / 2) / d)
         return net / h
 
-    def event(t: float, c: np.ndarray) -> float:
-        return float(np.mean(c)) - 0.6  # half of the way from 0.2 to 1
-
-    event.terminal = True  # type: ignore[attr-defined]
-    result = integrate.solve_ivp(
-        rhs,
-        (0.0, 400 * 3600.0),
-        np.full(cells, 0.2),
-        method="BDF",
-        events=event,
-        rtol=1e-10,
-        atol=1e-12,
-        jac_sparsity=sparse.diags([1.0, 1.0, 1.0], [-1, 0, 1], shape=(cells, cells)),
-    )
-    return float(result.t_events[0][0])
+    # half of the way from 0.2 to 1
+    return mean_crossing_time(rhs, np.full(cells, 0.2), 0.6, 400 * 3600.0)
 
 
 def test_ramp_and_soak_against_an_independent_method_of_lines(client: TestClient) -> None:
