@@ -31,26 +31,22 @@ from service.engines.finite_volume import build_mesh, three_grid_estimate
 from service.engines.rosenbrock import WorkBudget
 from service.engines.stepping import SteppedRun, history_in_time, step_in_time
 from service.errors import NumericalFailure
-from service.measures import (
-    Facts,
-)
-from service.physics import (
-    Case,
-)
+from service.measures import Facts
+from service.physics import Case
 
 FloatArray = NDArray[np.float64]
 FurnaceLag = Callable[[Case], tuple[list[tuple[str, str]], str]]
 
-# A value-dependent diffusivity's grids: the finest of the first three has this many cells
+# A stepped case's grids: the finest of the first three has this many cells
 # over the body (the coarsest a quarter of them), halved until the estimate meets the
 # accuracy, never past the cap. The step tolerance is this multiple of the accuracy; the
 # check on it runs that much tighter, its difference counted with a safety factor.
-NONLINEAR_FIRST_CELLS = 64
-NONLINEAR_MAX_CELLS = 2048
-NONLINEAR_RTOL_PER_ACCURACY = 1.0
-NONLINEAR_TIGHTER = 4.0
-NONLINEAR_MIN_RTOL = 1e-11
-NONLINEAR_STEPPING_SAFETY = 3.0
+STEPPED_FIRST_CELLS = 64
+STEPPED_MAX_CELLS = 2048
+STEPPED_RTOL_PER_ACCURACY = 1.0
+STEPPED_TIGHTER = 4.0
+STEPPED_MIN_RTOL = 1e-11
+STEPPED_STEPPING_SAFETY = 3.0
 # The steps all the runs of one request may take together (about 3–5 s of work).
 STEP_BUDGET = 50_000
 
@@ -195,7 +191,7 @@ def settle_stepped(case: Case, furnace_lag: FurnaceLag) -> SettlingAnswer:
     criterion = case.criterion
     assert criterion is not None
     facts = Facts.of(case)
-    rtol = NONLINEAR_RTOL_PER_ACCURACY * case.accuracy
+    rtol = STEPPED_RTOL_PER_ACCURACY * case.accuracy
 
     found: list[float] = []  # the soak lengthenings found so far, the last first used
     budget = WorkBudget(STEP_BUDGET)
@@ -208,26 +204,26 @@ def settle_stepped(case: Case, furnace_lag: FurnaceLag) -> SettlingAnswer:
 
     # the coarsest grid, uniform, says how far the diffusion has got by the answer; an
     # early answer gets grids graded toward the surfaces instead, as the eigen engine does
-    faces = build_mesh(case, NONLINEAR_FIRST_CELLS, None)
+    faces = build_mesh(case, STEPPED_FIRST_CELLS, None)
     glance = run(faces[::4], rtol)
     reach = math.sqrt(_fastest_diffusivity(case, facts) * _reduced_seconds(case, glance))
     if reach < 0.25 * case.body.wall_m:
-        faces = build_mesh(case, NONLINEAR_FIRST_CELLS, reach)
+        faces = build_mesh(case, STEPPED_FIRST_CELLS, reach)
         glance = run(faces[::4], rtol)
     # the step tolerance's share of the error: the coarsest grid again at a tighter one,
     # tightening until that share is at most half the accuracy asked
     while True:
-        tighter = run(faces[::4], rtol / NONLINEAR_TIGHTER)
-        stepping_error = NONLINEAR_STEPPING_SAFETY * abs(glance.time_s / tighter.time_s - 1)
-        if stepping_error <= 0.5 * case.accuracy or rtol < NONLINEAR_MIN_RTOL:
+        tighter = run(faces[::4], rtol / STEPPED_TIGHTER)
+        stepping_error = STEPPED_STEPPING_SAFETY * abs(glance.time_s / tighter.time_s - 1)
+        if stepping_error <= 0.5 * case.accuracy or rtol < STEPPED_MIN_RTOL:
             break
-        rtol /= NONLINEAR_TIGHTER
+        rtol /= STEPPED_TIGHTER
         glance = tighter
     runs = [glance, *(run(faces[::scale], rtol) for scale in (2, 1))]
     while True:
         time_s, grid_error, _ = three_grid_estimate(runs[2].time_s, runs[1].time_s, runs[0].time_s)
         error = grid_error + stepping_error
-        if error <= case.accuracy or 2 * (faces.size - 1) > NONLINEAR_MAX_CELLS:
+        if error <= case.accuracy or 2 * (faces.size - 1) > STEPPED_MAX_CELLS:
             break
         faces = _bisected(faces)
         runs = [*runs[1:], run(faces, rtol)]
@@ -294,7 +290,7 @@ def history_stepped(case: Case, times: FloatArray, chosen: NDArray[np.intp]) -> 
     stepped = history_in_time(
         case,
         faces,
-        NONLINEAR_RTOL_PER_ACCURACY * case.accuracy / 10,
+        STEPPED_RTOL_PER_ACCURACY * case.accuracy / 10,
         ascending,
         [int(rank[i]) for i in chosen],
         positions,
