@@ -8,7 +8,7 @@ import time
 from fastapi import APIRouter, Response
 from starlette.concurrency import run_in_threadpool
 
-from service.answers import format_time
+from service.answers import SettlingAnswer, format_time
 from service.api.cases import Translation, to_case
 from service.api.deps import (
     SolverDep,
@@ -22,7 +22,7 @@ from service.models import LumpedOut, Method, SettlingRequest, SettlingResponse,
 from service.models.responses import ReactionOut, ScheduleOut
 from service.solver import Solver
 
-__all__ = ["router"]
+__all__ = ["router", "settling_response"]
 
 router = APIRouter(tags=["estimates"])
 
@@ -46,69 +46,71 @@ async def settling_time(request: SettlingRequest, solver: SolverDep, units: Unit
 
 
 def _respond(translation: Translation, solver: Solver) -> Response:
-    case = translation.case
     started = time.perf_counter()
-    answer = solver.settle(case)
+    answer = solver.settle(translation.case)
     elapsed = time.perf_counter() - started
+    return json_response(settling_response(translation, answer), elapsed)
+
+
+def settling_response(translation: Translation, answer: SettlingAnswer) -> SettlingResponse:
+    """The response for one answer (shared by the endpoint and the command line)."""
+    case = translation.case
     rate = answer.slowest_excited_rate_per_s
-    return json_response(
-        SettlingResponse(
-            time_s=answer.time_s,
-            time_text=format_time(answer.time_s),
-            time_definition=answer.definition,
-            fourier_number=answer.fourier_number,
-            characteristic_length_m=case.characteristic_length_m,
-            length_convention=case.length_convention,
-            final_value=answer.final_value,
-            final_state=final_state_out(case),
-            slowest_rate_per_s=answer.slowest_rate_per_s,
-            slowest_excited_rate_per_s=rate,
-            time_constant_s=1.0 / rate if rate else None,
-            measures=answer.measures,
-            method=Method(
-                engine=answer.engine,
-                path=answer.path,
-                resolution=answer.resolution,
-                estimated_relative_error=answer.estimated_relative_error,
-            ),
-            diffusivity_m2_per_s=case.medium.diffusivity_m2_per_s,
-            biot=answer.biot,
-            biot_by_face=biot_by_face(case, translation.faces_given),
-            met_after_exchange=answer.met_after_exchange,
-            reaction=(
-                ReactionOut(
-                    thiele_modulus=answer.reaction[0],
-                    effectiveness_factor=_finite_or_none(answer.reaction[1]),
-                )
-                if answer.reaction is not None
-                else None
-            ),
-            schedule=(
-                ScheduleOut(
-                    integrated_diffusivity_m2=answer.schedule.integrated_diffusivity_m2,
-                    met_in_segment=answer.schedule.met_in_segment,
-                    schedule_end_s=answer.schedule.schedule_end_s,
-                    extra_soak_s=answer.schedule.extra_soak_s,
-                )
-                if answer.schedule is not None
-                else None
-            ),
-            lumped=(
-                LumpedOut(
-                    time_s=answer.lumped.time_s,
-                    time_text=format_time(answer.lumped.time_s),
-                    rate_per_s=answer.lumped.rate_per_s,
-                    biot_volume_to_area=answer.lumped.biot_volume_to_area,
-                )
-                if answer.lumped is not None
-                else None
-            ),
-            interpreted_positions_m=translation.positions_m,
-            warnings=[WarningOut(code=code, message=message) for code, message in answer.warnings],
-            assumptions=answer.assumptions,
-            cautions=answer.cautions,
+    return SettlingResponse(
+        time_s=answer.time_s,
+        time_text=format_time(answer.time_s),
+        time_definition=answer.definition,
+        fourier_number=answer.fourier_number,
+        characteristic_length_m=case.characteristic_length_m,
+        length_convention=case.length_convention,
+        final_value=answer.final_value,
+        final_state=final_state_out(case),
+        slowest_rate_per_s=answer.slowest_rate_per_s,
+        slowest_excited_rate_per_s=rate,
+        time_constant_s=1.0 / rate if rate else None,
+        measures=answer.measures,
+        method=Method(
+            engine=answer.engine,
+            path=answer.path,
+            resolution=answer.resolution,
+            estimated_relative_error=answer.estimated_relative_error,
         ),
-        elapsed,
+        diffusivity_m2_per_s=case.medium.diffusivity_m2_per_s,
+        biot=answer.biot,
+        biot_by_face=biot_by_face(case, translation.faces_given),
+        met_after_exchange=answer.met_after_exchange,
+        reaction=(
+            ReactionOut(
+                thiele_modulus=answer.reaction[0],
+                effectiveness_factor=_finite_or_none(answer.reaction[1]),
+            )
+            if answer.reaction is not None
+            else None
+        ),
+        schedule=(
+            ScheduleOut(
+                integrated_diffusivity_m2=answer.schedule.integrated_diffusivity_m2,
+                met_in_segment=answer.schedule.met_in_segment,
+                schedule_end_s=answer.schedule.schedule_end_s,
+                extra_soak_s=answer.schedule.extra_soak_s,
+            )
+            if answer.schedule is not None
+            else None
+        ),
+        lumped=(
+            LumpedOut(
+                time_s=answer.lumped.time_s,
+                time_text=format_time(answer.lumped.time_s),
+                rate_per_s=answer.lumped.rate_per_s,
+                biot_volume_to_area=answer.lumped.biot_volume_to_area,
+            )
+            if answer.lumped is not None
+            else None
+        ),
+        interpreted_positions_m=translation.positions_m,
+        warnings=[WarningOut(code=code, message=message) for code, message in answer.warnings],
+        assumptions=answer.assumptions,
+        cautions=answer.cautions,
     )
 
 

@@ -79,6 +79,14 @@ def _pointer_of(error: dict[str, Any], document: Any) -> str:
     return pointer_for(location, document, is_missing=kind == "missing")
 
 
+def validation_items(errors: list[Any], document: Any) -> list[ProblemItem]:
+    """Pydantic's errors on ``document`` as problem items, each with its JSON Pointer."""
+    return [
+        ProblemItem(pointer=_pointer_of(error, document), detail=_message(error))
+        for error in errors
+    ]
+
+
 async def _on_validation(request: Request, exc: RequestValidationError) -> JSONResponse:
     errors = list(exc.errors())
     if any(error.get("type") == "json_invalid" for error in errors):
@@ -92,11 +100,7 @@ async def _on_validation(request: Request, exc: RequestValidationError) -> JSONR
             f"the request body is not valid JSON: {detail}",
             [ProblemItem(pointer="", detail=detail)],
         )
-    document = getattr(exc, "body", None)
-    items = [
-        ProblemItem(pointer=_pointer_of(error, document), detail=_message(error))
-        for error in errors
-    ]
+    items = validation_items(errors, getattr(exc, "body", None))
     summary = "; ".join(f"{item.pointer or '/'}: {item.detail}" for item in items[:3])
     return _problem(422, "invalid-request", "Invalid request", summary, items)
 
