@@ -10,9 +10,10 @@ from fastapi import FastAPI
 
 from service import __version__
 from service.answers import WARNING_CODES
-from service.api import depths, estimates, health, history
+from service.api import depths, estimates, health, history, plots
 from service.api.problems import MEDIA_TYPE as PROBLEM_MEDIA_TYPE
 from service.api.problems import install_problem_handlers
+from service.plots import Plotter
 from service.settings import Settings, get_settings
 from service.solver import Solver
 from service.units import Units
@@ -89,9 +90,11 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.state.settings = settings or get_settings()
     app.state.solver = Solver()
     app.state.units = Units()
+    app.state.plotter = Plotter()
     app.include_router(estimates.router)
     app.include_router(history.router)
     app.include_router(depths.router)
+    app.include_router(plots.router)
     app.include_router(health.router)
     install_problem_handlers(app)
     _customise_openapi(app, load_examples())

@@ -11,10 +11,18 @@ from pydantic import BaseModel
 from service.answers import PROFILE_FORMS, REACTION_FORMS
 from service.models.responses import FinalStateOut, ProfilePieceOut
 from service.physics import Case, Geometry, SurfaceKind
+from service.plots import Plotter
 from service.solver import Solver
 from service.units import Units
 
-__all__ = ["SolverDep", "UnitsDep", "biot_by_face", "final_state_out", "json_response"]
+__all__ = [
+    "PlotterDep",
+    "SolverDep",
+    "UnitsDep",
+    "biot_by_face",
+    "final_state_out",
+    "json_response",
+]
 
 
 # The dependencies are ``async def`` because they only read app.state: a plain ``def``
@@ -29,8 +37,14 @@ async def _units(request: Request) -> Units:
     return units
 
 
+async def _plotter(request: Request) -> Plotter:
+    plotter: Plotter = request.app.state.plotter
+    return plotter
+
+
 SolverDep = Annotated[Solver, Depends(_solver)]
 UnitsDep = Annotated[Units, Depends(_units)]
+PlotterDep = Annotated[Plotter, Depends(_plotter)]
 
 
 def json_response(model: BaseModel, solve_seconds: float | None = None) -> Response:

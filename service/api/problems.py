@@ -80,11 +80,17 @@ def _pointer_of(error: dict[str, Any], document: Any) -> str:
 
 
 def validation_items(errors: list[Any], document: Any) -> list[ProblemItem]:
-    """Pydantic's errors on ``document`` as problem items, each with its JSON Pointer."""
-    return [
-        ProblemItem(pointer=_pointer_of(error, document), detail=_message(error))
-        for error in errors
-    ]
+    """Pydantic's errors on ``document`` as problem items, each with its JSON Pointer; an
+    error in a query or path parameter has no place in the body, so its detail names it."""
+    items = []
+    for error in errors:
+        location = tuple(error.get("loc", ()))
+        if len(location) > 1 and location[0] in ("query", "path", "header"):
+            detail = f"{location[0]} parameter '{location[1]}': {_message(error)}"
+            items.append(ProblemItem(pointer="", detail=detail))
+        else:
+            items.append(ProblemItem(pointer=_pointer_of(error, document), detail=_message(error)))
+    return items
 
 
 async def _on_validation(request: Request, exc: RequestValidationError) -> JSONResponse:
