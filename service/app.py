@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import json
+from collections.abc import AsyncIterator
+from contextlib import asynccontextmanager
 from pathlib import Path
 from typing import Any
 
@@ -10,12 +12,13 @@ from fastapi import FastAPI
 
 from service import __version__
 from service.answers import WARNING_CODES
-from service.api import depths, estimates, health, history, plots
+from service.api import depths, estimates, health, history, plots, results
 from service.api.problems import MEDIA_TYPE as PROBLEM_MEDIA_TYPE
 from service.api.problems import install_problem_handlers
 from service.plots import Plotter
 from service.settings import Settings, get_settings
 from service.solver import Solver
+from service.store import ResultStore
 from service.units import Units
 
 __all__ = ["app", "create_app", "load_examples"]
@@ -86,8 +89,22 @@ def _customise_openapi(app: FastAPI, examples: dict[str, dict[str, dict[str, Any
 
 def create_app(settings: Settings | None = None) -> FastAPI:
     """A new application with its own engines (and their caches) and unit converter."""
-    app = FastAPI(title="mixclock", version=__version__, description=_DESCRIPTION)
-    app.state.settings = settings or get_settings()
+    settings = settings or get_settings()
+
+    @asynccontextmanager
+    async def lifespan(app: FastAPI) -> AsyncIterator[None]:
+        yield
+        app.state.store.close()  # write what is queued before the process ends
+
+    app = FastAPI(
+        title="mixclock", version=__version__, description=_DESCRIPTION, lifespan=lifespan
+    )
+    app.state.settings = settings
+    app.state.store = (
+        ResultStore(settings.store_url, settings.retention_days)
+        if settings.store_url
+        else ResultStore.in_folder(settings.data_dir, settings.retention_days)
+    )
     app.state.solver = Solver()
     app.state.units = Units()
     app.state.plotter = Plotter()
@@ -95,6 +112,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.include_router(history.router)
     app.include_router(depths.router)
     app.include_router(plots.router)
+    app.include_router(results.router)
     app.include_router(health.router)
     install_problem_handlers(app)
     _customise_openapi(app, load_examples())

@@ -6,7 +6,8 @@
     ├── InvalidInput       a request value is wrong; carries a JSON pointer → 422
     │   └── UnitError      a quantity cannot be read or has the wrong dimension → 422
     ├── NotApplicable      valid, but the engine or measure asked for cannot answer it → 422
-    └── NumericalFailure   an engine could not reach a trustworthy answer → 422
+    ├── NumericalFailure   an engine could not reach a trustworthy answer → 422
+    └── NotFound           a stored result that does not exist → 404
 
 Each carries ``pointer`` (an RFC 6901 JSON Pointer into the request, possibly empty)
 and a ``detail`` that tells the caller what is accepted or what to change.
@@ -18,6 +19,7 @@ __all__ = [
     "InvalidInput",
     "MixclockError",
     "NotApplicable",
+    "NotFound",
     "NumericalFailure",
     "UnitError",
 ]
@@ -28,6 +30,7 @@ class MixclockError(Exception):
 
     title = "mixclock error"
     slug = "error"
+    status = 422
 
     def __init__(self, detail: str, pointer: str = "") -> None:
         super().__init__(detail)
@@ -67,3 +70,11 @@ class NumericalFailure(MixclockError):
 
     title = "No trustworthy answer"
     slug = "numerical-failure"
+
+
+class NotFound(MixclockError):
+    """Raised when a stored result asked for by its id does not exist."""
+
+    title = "Not found"
+    slug = "not-found"
+    status = 404

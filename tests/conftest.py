@@ -7,12 +7,14 @@ import pytest
 from fastapi.testclient import TestClient
 
 from service.app import create_app
+from service.settings import Settings
 from service.solver import Solver
 
 
 @pytest.fixture(scope="session")
-def client() -> Iterator[TestClient]:
-    with TestClient(create_app()) as test_client:
+def client(tmp_path_factory: pytest.TempPathFactory) -> Iterator[TestClient]:
+    settings = Settings(data_dir=tmp_path_factory.mktemp("data"))
+    with TestClient(create_app(settings)) as test_client:
         yield test_client
 
 

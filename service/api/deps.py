@@ -12,12 +12,16 @@ from service.answers import PROFILE_FORMS, REACTION_FORMS
 from service.models.responses import FinalStateOut, ProfilePieceOut
 from service.physics import Case, Geometry, SurfaceKind
 from service.plots import Plotter
+from service.settings import Settings
 from service.solver import Solver
+from service.store import ResultStore
 from service.units import Units
 
 __all__ = [
     "PlotterDep",
+    "SettingsDep",
     "SolverDep",
+    "StoreDep",
     "UnitsDep",
     "biot_by_face",
     "final_state_out",
@@ -42,7 +46,19 @@ async def _plotter(request: Request) -> Plotter:
     return plotter
 
 
+async def _store(request: Request) -> ResultStore:
+    store: ResultStore = request.app.state.store
+    return store
+
+
+async def _settings(request: Request) -> Settings:
+    settings: Settings = request.app.state.settings
+    return settings
+
+
 SolverDep = Annotated[Solver, Depends(_solver)]
+StoreDep = Annotated[ResultStore, Depends(_store)]
+SettingsDep = Annotated[Settings, Depends(_settings)]
 UnitsDep = Annotated[Units, Depends(_units)]
 PlotterDep = Annotated[Plotter, Depends(_plotter)]
 

@@ -11,16 +11,20 @@ from starlette.concurrency import run_in_threadpool
 from service.answers import SettlingAnswer, format_time
 from service.api.cases import Translation, to_case
 from service.api.deps import (
+    SettingsDep,
     SolverDep,
+    StoreDep,
     UnitsDep,
     biot_by_face,
     final_state_out,
     json_response,
 )
 from service.api.problems import PROBLEM_RESPONSES
+from service.api.results import keep_answer
 from service.models import LumpedOut, Method, SettlingRequest, SettlingResponse, WarningOut
 from service.models.responses import ReactionOut, ScheduleOut
 from service.solver import Solver
+from service.store import ResultStore
 
 __all__ = ["router", "settling_response"]
 
@@ -33,30 +37,49 @@ router = APIRouter(tags=["estimates"])
     responses=PROBLEM_RESPONSES,
     summary="Settling time of a slab, cylinder or sphere",
 )
-async def settling_time(request: SettlingRequest, solver: SolverDep, units: UnitsDep) -> Response:
+async def settling_time(
+    request: SettlingRequest,
+    solver: SolverDep,
+    units: UnitsDep,
+    store: StoreDep,
+    settings: SettingsDep,
+) -> Response:
     """The earliest time after which the criterion holds for good, with every measure at that
-    time, the method and its estimated error, and what was assumed."""
+    time, the method and its estimated error, and what was assumed. With ``store`` (or the
+    store_all setting) the answer is stored and carries its ``result_id``."""
     translation = to_case(request, units)
+    kept = store if request.store or settings.store_all else None
     # A quick series answer (well under a millisecond) runs on the event loop: handing it to
     # the thread pool was measured to add about 0.4 ms to a 0.3 ms answer. Anything that can
     # take longer runs in the thread pool, so the loop keeps serving other requests.
     if solver.is_quick(translation.case):
-        return _respond(translation, solver)
-    return await run_in_threadpool(_respond, translation, solver)
+        return _respond(request, translation, solver, kept)
+    return await run_in_threadpool(_respond, request, translation, solver, kept)
 
 
-def _respond(translation: Translation, solver: Solver) -> Response:
+def _respond(
+    request: SettlingRequest,
+    translation: Translation,
+    solver: Solver,
+    store: ResultStore | None,
+) -> Response:
     started = time.perf_counter()
     answer = solver.settle(translation.case)
     elapsed = time.perf_counter() - started
-    return json_response(settling_response(translation, answer), elapsed)
+    response = settling_response(translation, answer, ref=request.ref)
+    if store is not None:
+        response = keep_answer(store, "settling-time", request, response)
+    return json_response(response, elapsed)
 
 
-def settling_response(translation: Translation, answer: SettlingAnswer) -> SettlingResponse:
+def settling_response(
+    translation: Translation, answer: SettlingAnswer, ref: str | None = None
+) -> SettlingResponse:
     """The response for one answer (shared by the endpoint and the command line)."""
     case = translation.case
     rate = answer.slowest_excited_rate_per_s
     return SettlingResponse(
+        ref=ref,
         time_s=answer.time_s,
         time_text=format_time(answer.time_s),
         time_definition=answer.definition,

@@ -14,10 +14,11 @@ from service.api.problems import PROBLEM_RESPONSES
 from service.errors import InvalidInput
 from service.models import SettlingRequest
 from service.physics import Case, Geometry
-from service.plots import DecayPicture, ProfilesPicture
+from service.plots import DecayPicture, Plotter, ProfilesPicture
 from service.solver import Solver
+from service.units import Units
 
-__all__ = ["router"]
+__all__ = ["draw_decay", "router"]
 
 router = APIRouter(tags=["pictures"])
 
@@ -52,6 +53,17 @@ def decay(
 ) -> Response:
     """The case's measures over time on a log scale, the criterion's bold, its level dashed
     and the settling time marked (the others faint behind it)."""
+    return draw_decay(request, solver, units, plotter, format)
+
+
+def draw_decay(
+    request: SettlingRequest,
+    solver: Solver,
+    units: Units,
+    plotter: Plotter,
+    image_format: str,
+) -> Response:
+    """The decay picture of a settling-time request (also drawn for stored results)."""
     case = to_case(request, units).case
     answer = _settled(solver, case)
     history = solver.history(case, None, DECAY_POINTS, 0)
@@ -79,7 +91,7 @@ def decay(
         settled_s=answer.time_s,
         settled_text=format_time(answer.time_s),
     )
-    return Response(plotter.decay(picture, format), media_type=_MEDIA[format])
+    return Response(plotter.decay(picture, image_format), media_type=_MEDIA[image_format])
 
 
 @router.post(

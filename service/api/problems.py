@@ -114,7 +114,11 @@ async def _on_validation(request: Request, exc: RequestValidationError) -> JSONR
 async def _on_mixclock(request: Request, exc: Exception) -> JSONResponse:
     assert isinstance(exc, MixclockError)
     return _problem(
-        422, exc.slug, exc.title, exc.detail, [ProblemItem(pointer=exc.pointer, detail=exc.detail)]
+        exc.status,
+        exc.slug,
+        exc.title,
+        exc.detail,
+        [ProblemItem(pointer=exc.pointer, detail=exc.detail)],
     )
 
 

@@ -671,6 +671,16 @@ class CaseRequest(_Strict):
 
 class SettlingRequest(CaseRequest):
     criterion: Criterion
+    store: bool = Field(
+        False,
+        description="Store the answer; it then carries 'result_id', and GET "
+        "/v1/results/{result_id} returns it (with its request) later.",
+    )
+    ref: str | None = Field(
+        None,
+        max_length=200,
+        description="The caller's own reference, echoed back (not part of the result id).",
+    )
 
 
 class DepthRequest(CaseRequest):

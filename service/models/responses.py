@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import Any
+
 from pydantic import BaseModel, Field
 
 __all__ = [
@@ -116,6 +118,12 @@ class LumpedOut(BaseModel):
 
 
 class SettlingResponse(BaseModel):
+    result_id: str | None = Field(
+        None,
+        description="The stored answer's id (when stored): a hash of the request and the "
+        "service version; GET /v1/results/{result_id}.",
+    )
+    ref: str | None = Field(None, description="The caller's reference, as given.")
     time_s: float = Field(description="Earliest time after which the criterion holds for good.")
     time_text: str
     time_definition: str = Field(
@@ -205,6 +213,15 @@ class DepthResponse(BaseModel):
     warnings: list[WarningOut]
     assumptions: list[str]
     cautions: list[str]
+
+
+class StoredResultOut(BaseModel):
+    result_id: str
+    kind: str = Field(description="Which endpoint answered: 'settling-time'.")
+    version: str = Field(description="The service version that answered.")
+    stored_at: str = Field(description="When it was stored (ISO 8601, UTC).")
+    request: dict[str, Any]
+    answer: dict[str, Any]
 
 
 class SnapshotOut(BaseModel):

@@ -1,0 +1,239 @@
+"""Stored answers with stable ids: SQLite by default, PostgreSQL through a URL (SQLAlchemy Core).
+
+Notes
+-----
+A result's id is a content hash: SHA-256 of the canonical JSON of the request (keys sorted, no
+spaces; the caller's ``ref`` and the ``store`` flag left out) and the service version, so the
+same question to the same version has the same id wherever it is asked, and a lab system can
+keep it as its trace. Records hold the request, the answer, the version and the time stored;
+an id already present is never overwritten (same id, same answer).
+
+Writes are behind the answer: ``put`` only queues the record (a few microseconds) and one
+writer thread per store inserts in batches; ``get`` looks in the queue before the database,
+so a process always finds what it has just stored. SQLite runs in WAL mode with a busy timeout,
+so several worker processes can share one file; PostgreSQL serves shared deployments. Records
+older than the retention are pruned when the writer starts and every ``_PRUNE_EVERY`` writes.
+The database is opened on first use: a service that stores nothing creates no file.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import queue
+import threading
+from dataclasses import dataclass
+from datetime import UTC, datetime, timedelta
+from pathlib import Path
+from typing import Any
+
+import sqlalchemy as sa
+
+__all__ = ["ResultStore", "StoredResult", "result_id"]
+
+# The writer takes at most this many records per transaction, and prunes every so many writes.
+_BATCH = 256
+_PRUNE_EVERY = 1000
+# SQLite waits this long (ms) for another process's write lock before failing.
+_BUSY_TIMEOUT_MS = 10_000
+# Fields of a request that do not change its answer, left out of the id.
+_NOT_HASHED = ("ref", "store")
+
+_METADATA = sa.MetaData()
+_RESULTS = sa.Table(
+    "results",
+    _METADATA,
+    sa.Column("result_id", sa.String(64), primary_key=True),
+    sa.Column("kind", sa.String(32), nullable=False),
+    sa.Column("version", sa.String(32), nullable=False),
+    sa.Column("stored_at", sa.DateTime(timezone=True), nullable=False, index=True),
+    sa.Column("request", sa.Text, nullable=False),
+    sa.Column("answer", sa.Text, nullable=False),
+)
+
+
+def result_id(request: dict[str, Any], version: str) -> str:
+    """The content hash of a request (canonical JSON, ``ref`` and ``store`` left out) and the
+    service version: 32 hexadecimal digits of its SHA-256."""
+    kept = {key: value for key, value in request.items() if key not in _NOT_HASHED}
+    canonical = json.dumps(kept, sort_keys=True, separators=(",", ":"), ensure_ascii=False)
+    return hashlib.sha256(f"{version}\n{canonical}".encode()).hexdigest()[:32]
+
+
+@dataclass(frozen=True)
+class StoredResult:
+    result_id: str
+    kind: str
+    version: str
+    stored_at: datetime
+    request: dict[str, Any]
+    answer: dict[str, Any]
+
+
+class ResultStore:
+    """One per application: the database (opened on first use) and its writer thread."""
+
+    def __init__(self, url: str, retention_days: float | None = None) -> None:
+        self.url = url
+        self.retention_days = retention_days
+        self._engine: sa.Engine | None = None
+        self._open_lock = threading.Lock()
+        self._queue: queue.Queue[StoredResult | None] = queue.Queue()
+        self._pending: dict[str, StoredResult] = {}
+        self._pending_lock = threading.Lock()
+        self._writer: threading.Thread | None = None
+        self._written = 0
+
+    @classmethod
+    def in_folder(cls, folder: Path, retention_days: float | None = None) -> ResultStore:
+        """The default store: an SQLite file in ``folder`` (made when first used)."""
+        return cls(f"sqlite:///{folder / 'results.sqlite3'}", retention_days)
+
+    def put(self, record: StoredResult) -> None:
+        """Queue a record for writing; the answer does not wait for the database."""
+        with self._pending_lock:
+            if record.result_id in self._pending:
+                return
+            self._pending[record.result_id] = record
+        self._start_writer()
+        self._queue.put(record)
+
+    def get(self, result_id: str) -> StoredResult | None:
+        with self._pending_lock:
+            pending = self._pending.get(result_id)
+        if pending is not None:
+            return pending
+        with self._connect() as connection:
+            row = connection.execute(
+                sa.select(_RESULTS).where(_RESULTS.c.result_id == result_id)
+            ).first()
+        if row is None:
+            return None
+        stored_at = row.stored_at if row.stored_at.tzinfo else row.stored_at.replace(tzinfo=UTC)
+        return StoredResult(
+            row.result_id,
+            row.kind,
+            row.version,
+            stored_at,
+            json.loads(row.request),
+            json.loads(row.answer),
+        )
+
+    def flush(self) -> None:
+        """Wait until every queued record is written."""
+        if self._writer is not None:
+            self._queue.join()
+
+    def close(self) -> None:
+        """Write what is queued, stop the writer and release the database."""
+        if self._writer is not None:
+            self._queue.put(None)
+            self._writer.join()
+            self._writer = None
+        if self._engine is not None:
+            self._engine.dispose()
+            self._engine = None
+
+    def prune(self, now: datetime | None = None) -> int:
+        """Delete records older than the retention; how many went."""
+        if self.retention_days is None:
+            return 0
+        cutoff = (now or datetime.now(UTC)) - timedelta(days=self.retention_days)
+        with self._connect() as connection:
+            deleted = connection.execute(sa.delete(_RESULTS).where(_RESULTS.c.stored_at < cutoff))
+            connection.commit()
+        return int(deleted.rowcount or 0)
+
+    def _connect(self) -> sa.Connection:
+        return self._open().connect()
+
+    def _open(self) -> sa.Engine:
+        with self._open_lock:
+            if self._engine is None:
+                self._engine = _create_engine(self.url)
+                _METADATA.create_all(self._engine, checkfirst=True)
+            return self._engine
+
+    def _start_writer(self) -> None:
+        with self._open_lock:
+            if self._writer is not None:
+                return
+            self._writer = threading.Thread(target=self._write_loop, name="result-writer")
+            self._writer.daemon = True
+            self._writer.start()
+
+    def _write_loop(self) -> None:
+        self.prune()
+        while True:
+            first = self._queue.get()
+            batch = [] if first is None else [first]
+            stopping = first is None
+            while not stopping and len(batch) < _BATCH:
+                try:
+                    item = self._queue.get_nowait()
+                except queue.Empty:
+                    break
+                if item is None:
+                    stopping = True
+                else:
+                    batch.append(item)
+            if batch:
+                self._insert(batch)
+            for _ in range(len(batch) + (1 if stopping else 0)):
+                self._queue.task_done()
+            if stopping:
+                return
+
+    def _insert(self, batch: list[StoredResult]) -> None:
+        rows = [
+            {
+                "result_id": r.result_id,
+                "kind": r.kind,
+                "version": r.version,
+                "stored_at": r.stored_at,
+                "request": json.dumps(r.request, ensure_ascii=False),
+                "answer": json.dumps(r.answer, ensure_ascii=False),
+            }
+            for r in batch
+        ]
+        engine = self._open()
+        insert = _insert_ignoring_duplicates(engine)
+        with engine.connect() as connection:
+            connection.execute(insert, rows)
+            connection.commit()
+        with self._pending_lock:
+            for record in batch:
+                self._pending.pop(record.result_id, None)
+        self._written += len(batch)
+        if self._written >= _PRUNE_EVERY:
+            self._written = 0
+            self.prune()
+
+
+def _insert_ignoring_duplicates(engine: sa.Engine) -> Any:
+    """INSERT that leaves an existing id alone (records are never overwritten)."""
+    if engine.dialect.name == "postgresql":
+        from sqlalchemy.dialects import postgresql
+
+        return postgresql.insert(_RESULTS).on_conflict_do_nothing(index_elements=["result_id"])
+    from sqlalchemy.dialects import sqlite
+
+    return sqlite.insert(_RESULTS).on_conflict_do_nothing(index_elements=["result_id"])
+
+
+def _create_engine(url: str) -> sa.Engine:
+    if not url.startswith("sqlite"):
+        return sa.create_engine(url, pool_pre_ping=True)
+    path = url.removeprefix("sqlite:///")
+    if path and path != ":memory:":
+        Path(path).parent.mkdir(parents=True, exist_ok=True)
+    engine = sa.create_engine(url, connect_args={"timeout": _BUSY_TIMEOUT_MS / 1000})
+
+    @sa.event.listens_for(engine, "connect")
+    def _pragmas(connection: Any, record: Any) -> None:
+        cursor = connection.cursor()
+        cursor.execute("PRAGMA journal_mode=WAL")
+        cursor.execute(f"PRAGMA busy_timeout={_BUSY_TIMEOUT_MS}")
+        cursor.close()
+
+    return engine
