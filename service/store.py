@@ -2,14 +2,16 @@
 
 Notes
 -----
-A result's id is a content hash: SHA-256 of the canonical JSON of the request (keys sorted, no
-spaces; the caller's ``ref`` and the ``store`` flag left out) and the service version, so the
-same question to the same version has the same id wherever it is asked, and a lab system can
-keep it as its trace. Records hold the request, the answer, the version and the time stored;
+A result's id is a content hash: SHA-256 of the canonical JSON of the validated request (the
+model's own serialisation: every field in its declared order, defaults filled in, the
+caller's ``ref`` and the ``store`` flag left out) and the service version, so the same question
+to the same version has the same id wherever it is asked, and a lab system can keep it as its
+trace. Records hold the request, the answer, the version and the time stored;
 an id already present is never overwritten (same id, same answer).
 
-Writes are behind the answer: ``put`` only queues the record (a few microseconds) and one
-writer thread per store inserts in batches; ``get`` looks in the queue before the database,
+Writes are behind the answer: the record carries the request and the answer as the JSON text
+already made for the response, ``put`` only queues it, and one writer thread per store inserts
+in batches; ``get`` looks in the queue before the database,
 so a process always finds what it has just stored. SQLite runs in WAL mode with a busy timeout,
 so several worker processes can share one file; PostgreSQL serves shared deployments. Records
 older than the retention are pruned when the writer starts and every ``_PRUNE_EVERY`` writes.
@@ -28,11 +30,14 @@ from pathlib import Path
 from typing import Any
 
 import sqlalchemy as sa
+from pydantic import BaseModel
 
 __all__ = ["ResultStore", "StoredResult", "result_id"]
 
-# The writer takes at most this many records per transaction, and prunes every so many writes.
+# The writer takes at most this many records per transaction, waiting this long (s) after each
+# for more, and prunes every so many writes.
 _BATCH = 256
+_GATHER_S = 0.005
 _PRUNE_EVERY = 1000
 # SQLite waits this long (ms) for another process's write lock before failing.
 _BUSY_TIMEOUT_MS = 10_000
@@ -52,22 +57,33 @@ _RESULTS = sa.Table(
 )
 
 
-def result_id(request: dict[str, Any], version: str) -> str:
-    """The content hash of a request (canonical JSON, ``ref`` and ``store`` left out) and the
-    service version: 32 hexadecimal digits of its SHA-256."""
-    kept = {key: value for key, value in request.items() if key not in _NOT_HASHED}
-    canonical = json.dumps(kept, sort_keys=True, separators=(",", ":"), ensure_ascii=False)
+def result_id(request: BaseModel, version: str) -> str:
+    """The content hash of a validated request (its JSON, ``ref`` and ``store`` left out) and
+    the service version: 32 hexadecimal digits of its SHA-256."""
+    canonical = request.model_dump_json(exclude=set(_NOT_HASHED))
     return hashlib.sha256(f"{version}\n{canonical}".encode()).hexdigest()[:32]
 
 
 @dataclass(frozen=True)
 class StoredResult:
+    """One stored answer; the request and the answer as JSON text."""
+
     result_id: str
     kind: str
     version: str
     stored_at: datetime
-    request: dict[str, Any]
-    answer: dict[str, Any]
+    request_json: str
+    answer_json: str
+
+    @property
+    def request(self) -> dict[str, Any]:
+        document: dict[str, Any] = json.loads(self.request_json)
+        return document
+
+    @property
+    def answer(self) -> dict[str, Any]:
+        document: dict[str, Any] = json.loads(self.answer_json)
+        return document
 
 
 class ResultStore:
@@ -111,12 +127,7 @@ class ResultStore:
             return None
         stored_at = row.stored_at if row.stored_at.tzinfo else row.stored_at.replace(tzinfo=UTC)
         return StoredResult(
-            row.result_id,
-            row.kind,
-            row.version,
-            stored_at,
-            json.loads(row.request),
-            json.loads(row.answer),
+            row.result_id, row.kind, row.version, stored_at, row.request, row.answer
         )
 
     def flush(self) -> None:
@@ -170,7 +181,8 @@ class ResultStore:
             stopping = first is None
             while not stopping and len(batch) < _BATCH:
                 try:
-                    item = self._queue.get_nowait()
+                    # gather what arrives within a moment into the same transaction
+                    item = self._queue.get(timeout=_GATHER_S)
                 except queue.Empty:
                     break
                 if item is None:
@@ -191,8 +203,8 @@ class ResultStore:
                 "kind": r.kind,
                 "version": r.version,
                 "stored_at": r.stored_at,
-                "request": json.dumps(r.request, ensure_ascii=False),
-                "answer": json.dumps(r.answer, ensure_ascii=False),
+                "request": r.request_json,
+                "answer": r.answer_json,
             }
             for r in batch
         ]
@@ -233,6 +245,9 @@ def _create_engine(url: str) -> sa.Engine:
     def _pragmas(connection: Any, record: Any) -> None:
         cursor = connection.cursor()
         cursor.execute("PRAGMA journal_mode=WAL")
+        # WAL with synchronous=NORMAL: a crash cannot corrupt the file; a power cut may lose
+        # the last few stored answers, which a caller can recompute from its request
+        cursor.execute("PRAGMA synchronous=NORMAL")
         cursor.execute(f"PRAGMA busy_timeout={_BUSY_TIMEOUT_MS}")
         cursor.close()
 

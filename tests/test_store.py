@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 import os
 import threading
 from collections.abc import Iterator
@@ -11,7 +12,9 @@ from pathlib import Path
 import pytest
 import sqlalchemy as sa
 
+from service.models import SettlingRequest
 from service.store import ResultStore, StoredResult, result_id
+from tests.conftest import slab_request
 
 POSTGRES_URL = os.environ.get("MIXCLOCK_TEST_POSTGRES_URL")
 POSTGRES_SKIP = (
@@ -40,8 +43,8 @@ def _record(identity: str, answer: float = 1.0, age_days: float = 0.0) -> Stored
         kind="settling-time",
         version="test",
         stored_at=datetime.now(UTC) - timedelta(days=age_days),
-        request={"body": {"shape": "slab"}, "ref": "x"},
-        answer={"time_s": answer},
+        request_json=json.dumps({"body": {"shape": "slab"}, "ref": "x"}),
+        answer_json=json.dumps({"time_s": answer}),
     )
 
 
@@ -106,9 +109,14 @@ def test_several_writers_share_one_database(url: str) -> None:
 
 
 def test_result_id_is_a_hash_of_the_request_and_version() -> None:
-    request = {"body": {"shape": "slab", "thickness": "4 mm"}, "accuracy": 1e-4}
-    reordered = {"accuracy": 1e-4, "body": {"thickness": "4 mm", "shape": "slab"}}
-    assert result_id(request, "1") == result_id(reordered, "1")
-    assert result_id({**request, "ref": "LIMS-7", "store": True}, "1") == result_id(request, "1")
+    """The id follows the validated request (so the order keys came in does not matter), not
+    the caller's reference or the store flag, and changes with the version."""
+    case = slab_request()
+    reordered = dict(reversed(list(case.items())))
+    request = SettlingRequest.model_validate(case)
+    assert result_id(request, "1") == result_id(SettlingRequest.model_validate(reordered), "1")
+    tagged = SettlingRequest.model_validate({**case, "ref": "LIMS-7", "store": True})
+    assert result_id(tagged, "1") == result_id(request, "1")
     assert result_id(request, "1") != result_id(request, "2")
-    assert result_id(request, "1") != result_id({**request, "accuracy": 1e-5}, "1")
+    tighter = SettlingRequest.model_validate({**case, "accuracy": 1e-5})
+    assert result_id(request, "1") != result_id(tighter, "1")

@@ -17,10 +17,9 @@ from service.api.deps import (
     UnitsDep,
     biot_by_face,
     final_state_out,
-    json_response,
 )
 from service.api.problems import PROBLEM_RESPONSES
-from service.api.results import keep_answer
+from service.api.results import answer_id, keep_answer
 from service.models import LumpedOut, Method, SettlingRequest, SettlingResponse, WarningOut
 from service.models.responses import ReactionOut, ScheduleOut
 from service.solver import Solver
@@ -66,19 +65,22 @@ def _respond(
     started = time.perf_counter()
     answer = solver.settle(translation.case)
     elapsed = time.perf_counter() - started
-    response = settling_response(translation, answer, ref=request.ref)
-    if store is not None:
-        response = keep_answer(store, "settling-time", request, response)
-    return json_response(response, elapsed)
+    identity = answer_id(store, request)
+    response = settling_response(translation, answer, ref=request.ref, result_id=identity)
+    return keep_answer(store, "settling-time", request, response, elapsed)
 
 
 def settling_response(
-    translation: Translation, answer: SettlingAnswer, ref: str | None = None
+    translation: Translation,
+    answer: SettlingAnswer,
+    ref: str | None = None,
+    result_id: str | None = None,
 ) -> SettlingResponse:
     """The response for one answer (shared by the endpoint and the command line)."""
     case = translation.case
     rate = answer.slowest_excited_rate_per_s
     return SettlingResponse(
+        result_id=result_id,
         ref=ref,
         time_s=answer.time_s,
         time_text=format_time(answer.time_s),

@@ -5,10 +5,16 @@ from __future__ import annotations
 from datetime import UTC, datetime
 
 from fastapi import APIRouter, Response
-from pydantic import BaseModel
 
 from service import __version__
-from service.api.deps import PlotterDep, SolverDep, StoreDep, UnitsDep, json_response
+from service.api.deps import (
+    PlotterDep,
+    SolverDep,
+    StoreDep,
+    UnitsDep,
+    json_response,
+    json_text_response,
+)
 from service.api.plots import draw_decay
 from service.api.problems import PROBLEM_RESPONSES
 from service.errors import NotFound
@@ -16,32 +22,38 @@ from service.models import SettlingRequest
 from service.models.responses import SettlingResponse, StoredResultOut
 from service.store import ResultStore, StoredResult, result_id
 
-__all__ = ["keep_answer", "router"]
+__all__ = ["answer_id", "keep_answer", "router"]
 
 router = APIRouter(tags=["results"])
 
 
+def answer_id(store: ResultStore | None, request: SettlingRequest) -> str | None:
+    """The id an answer will be stored under, or None when it is not to be stored."""
+    return None if store is None else result_id(request, __version__)
+
+
 def keep_answer(
-    store: ResultStore, kind: str, request: SettlingRequest, response: SettlingResponse
-) -> SettlingResponse:
-    """Give the answer its id and queue it for the store (the answer does not wait)."""
-    identity = result_id(request.model_dump(mode="json"), __version__)
-    kept = response.model_copy(update={"result_id": identity})
-    store.put(
-        StoredResult(
-            result_id=identity,
-            kind=kind,
-            version=__version__,
-            stored_at=datetime.now(UTC),
-            request=request.model_dump(mode="json", exclude_unset=True),
-            answer=_as_document(kept),
+    store: ResultStore | None,
+    kind: str,
+    request: SettlingRequest,
+    response: SettlingResponse,
+    solve_seconds: float,
+) -> Response:
+    """The answer as JSON; when a store is given (the response then carries its id), queued
+    for the store with the same JSON text: the answer does not wait for the database."""
+    content = response.model_dump_json()
+    if store is not None and response.result_id is not None:
+        store.put(
+            StoredResult(
+                result_id=response.result_id,
+                kind=kind,
+                version=__version__,
+                stored_at=datetime.now(UTC),
+                request_json=request.model_dump_json(exclude_unset=True),
+                answer_json=content,
+            )
         )
-    )
-    return kept
-
-
-def _as_document(model: BaseModel) -> dict[str, object]:
-    return model.model_dump(mode="json")
+    return json_text_response(content, solve_seconds)
 
 
 @router.get(
