@@ -9,12 +9,14 @@ from pathlib import Path
 from typing import Any
 
 from fastapi import FastAPI
+from fastapi.middleware.cors import CORSMiddleware
 
 from service import __version__
 from service.answers import WARNING_CODES
 from service.api import depths, estimates, health, history, plots, results
 from service.api.problems import MEDIA_TYPE as PROBLEM_MEDIA_TYPE
 from service.api.problems import install_problem_handlers
+from service.api.security import API_KEY_HEADER, ApiKeyGuard
 from service.plots import Plotter
 from service.settings import Settings, get_settings
 from service.solver import Solver
@@ -115,6 +117,17 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.include_router(results.router)
     app.include_router(health.router)
     install_problem_handlers(app)
+    # the last added runs first: CORS outermost, so a browser's preflight needs no key and a
+    # refusal still carries the CORS headers
+    if settings.api_key is not None:
+        app.add_middleware(ApiKeyGuard, key=settings.api_key.get_secret_value())
+    if settings.cors_origins:
+        app.add_middleware(
+            CORSMiddleware,
+            allow_origins=settings.cors_origins,
+            allow_methods=["GET", "POST"],
+            allow_headers=["content-type", API_KEY_HEADER],
+        )
     _customise_openapi(app, load_examples())
     return app
 
