@@ -17,6 +17,7 @@ from service.api import depths, estimates, health, history, plots, results
 from service.api.problems import MEDIA_TYPE as PROBLEM_MEDIA_TYPE
 from service.api.problems import install_problem_handlers
 from service.api.security import API_KEY_HEADER, ApiKeyGuard
+from service.metrics import Metrics, MetricsMiddleware
 from service.plots import Plotter
 from service.settings import Settings, get_settings
 from service.solver import Solver
@@ -110,6 +111,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.state.solver = Solver()
     app.state.units = Units()
     app.state.plotter = Plotter()
+    app.state.metrics = Metrics()
     app.include_router(estimates.router)
     app.include_router(history.router)
     app.include_router(depths.router)
@@ -128,6 +130,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
             allow_methods=["GET", "POST"],
             allow_headers=["content-type", API_KEY_HEADER],
         )
+    app.add_middleware(MetricsMiddleware, metrics=app.state.metrics)
     _customise_openapi(app, load_examples())
     return app
 

@@ -39,8 +39,14 @@ def main(argv: Sequence[str] | None = None) -> int:
     arguments = parser.parse_args(argv)
     if arguments.command == "solve":
         return _solve(arguments.case, arguments.json, sys.stdout, sys.stderr)
+    import os
+    import tempfile
+
     import uvicorn
 
+    if arguments.workers > 1 and not os.environ.get("PROMETHEUS_MULTIPROC_DIR"):
+        # every worker keeps its metrics in files here, and /metrics adds them up
+        os.environ["PROMETHEUS_MULTIPROC_DIR"] = tempfile.mkdtemp(prefix="mixclock-metrics-")
     uvicorn.run(
         "service.app:app",
         host=arguments.host,

@@ -9,6 +9,7 @@ from fastapi import Depends, Request, Response
 from pydantic import BaseModel
 
 from service.answers import PROFILE_FORMS, REACTION_FORMS
+from service.metrics import Metrics
 from service.models.responses import FinalStateOut, ProfilePieceOut
 from service.physics import Case, Geometry, SurfaceKind
 from service.plots import Plotter
@@ -18,6 +19,7 @@ from service.store import ResultStore
 from service.units import Units
 
 __all__ = [
+    "MetricsDep",
     "PlotterDep",
     "SettingsDep",
     "SolverDep",
@@ -57,7 +59,13 @@ async def _settings(request: Request) -> Settings:
     return settings
 
 
+async def _metrics(request: Request) -> Metrics:
+    metrics: Metrics = request.app.state.metrics
+    return metrics
+
+
 SolverDep = Annotated[Solver, Depends(_solver)]
+MetricsDep = Annotated[Metrics, Depends(_metrics)]
 StoreDep = Annotated[ResultStore, Depends(_store)]
 SettingsDep = Annotated[Settings, Depends(_settings)]
 UnitsDep = Annotated[Units, Depends(_units)]

@@ -58,8 +58,11 @@ def pointer_for(location: tuple[Any, ...], document: Any, is_missing: bool = Fal
 
 
 def _problem(
-    status: int, slug: str, title: str, detail: str, errors: list[ProblemItem]
+    request: Request, status: int, slug: str, title: str, detail: str, errors: list[ProblemItem]
 ) -> JSONResponse:
+    metrics = getattr(request.app.state, "metrics", None)
+    if metrics is not None:
+        metrics.errors.labels(kind=slug).inc()
     body = Problem(type=_TYPE_BASE + slug, title=title, status=status, detail=detail, errors=errors)
     return JSONResponse(body.model_dump(), status_code=status, media_type=MEDIA_TYPE)
 
@@ -100,6 +103,7 @@ async def _on_validation(request: Request, exc: RequestValidationError) -> JSONR
             str(error.get("ctx", {}).get("error", "")) or _message(error) for error in errors
         )
         return _problem(
+            request,
             400,
             "malformed-json",
             "Malformed JSON",
@@ -108,12 +112,13 @@ async def _on_validation(request: Request, exc: RequestValidationError) -> JSONR
         )
     items = validation_items(errors, getattr(exc, "body", None))
     summary = "; ".join(f"{item.pointer or '/'}: {item.detail}" for item in items[:3])
-    return _problem(422, "invalid-request", "Invalid request", summary, items)
+    return _problem(request, 422, "invalid-request", "Invalid request", summary, items)
 
 
 async def _on_mixclock(request: Request, exc: Exception) -> JSONResponse:
     assert isinstance(exc, MixclockError)
     return _problem(
+        request,
         exc.status,
         exc.slug,
         exc.title,
@@ -125,12 +130,13 @@ async def _on_mixclock(request: Request, exc: Exception) -> JSONResponse:
 async def _on_http(request: Request, exc: Exception) -> JSONResponse:
     assert isinstance(exc, HTTPException)
     return _problem(
-        exc.status_code, f"http-{exc.status_code}", str(exc.detail), str(exc.detail), []
+        request, exc.status_code, f"http-{exc.status_code}", str(exc.detail), str(exc.detail), []
     )
 
 
 async def _on_unexpected(request: Request, exc: Exception) -> JSONResponse:
     return _problem(
+        request,
         500,
         "internal",
         "Internal error",
