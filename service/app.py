@@ -13,7 +13,7 @@ from fastapi.middleware.cors import CORSMiddleware
 
 from service import __version__
 from service.answers import WARNING_CODES
-from service.api import depths, estimates, health, history, plots, results
+from service.api import depths, estimates, health, history, page, plots, results
 from service.api.problems import MEDIA_TYPE as PROBLEM_MEDIA_TYPE
 from service.api.problems import install_problem_handlers
 from service.api.security import API_KEY_HEADER, ApiKeyGuard
@@ -117,6 +117,7 @@ def create_app(settings: Settings | None = None) -> FastAPI:
     app.include_router(depths.router)
     app.include_router(plots.router)
     app.include_router(results.router)
+    app.include_router(page.router)
     app.include_router(health.router)
     install_problem_handlers(app)
     # the last added runs first: CORS outermost, so a browser's preflight needs no key and a
