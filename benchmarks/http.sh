@@ -10,7 +10,7 @@ PYTHON="${PYTHON:-python3}"
 if ! command -v wrk >/dev/null 2>&1; then
   apt-get update -qq && apt-get install -y -qq wrk >/dev/null
 fi
-"$PYTHON" -m uvicorn service.app:app --host 127.0.0.1 --port "$PORT" --workers 1 \
+MIXCLOCK_DATA_DIR="$(mktemp -d)" "$PYTHON" -m uvicorn service.app:app --host 127.0.0.1 --port "$PORT" --workers 1 \
   --log-level warning &
 server=$!
 trap 'kill "$server" 2>/dev/null || true' EXIT
@@ -35,6 +35,11 @@ echo "== GET /healthz (trivial plain-def endpoint), 1 connection, $DURATION"
 wrk -t1 -c1 -d"$DURATION" --latency "http://127.0.0.1:$PORT/healthz" | sed -n '/Latency Distribution/,/99%/p;/Requests\/sec/p'
 echo "== POST /v1/settling-time (series), 1 connection, $DURATION"
 wrk -t1 -c1 -d"$DURATION" --latency -s "$lua" "http://127.0.0.1:$PORT/v1/settling-time" | sed -n '/Latency Distribution/,/99%/p;/Requests\/sec/p'
+stored=$(mktemp --suffix .lua)
+sed 's/^wrk.body = \[\[{/wrk.body = [[{"store": true, /' "$lua" > "$stored"
+echo "== POST /v1/settling-time (series) with \"store\": true, 1 connection, $DURATION"
+wrk -t1 -c1 -d"$DURATION" --latency -s "$stored" "http://127.0.0.1:$PORT/v1/settling-time" | sed -n '/Latency Distribution/,/99%/p;/Requests\/sec/p'
+rm -f "$stored"
 echo "== POST /v1/settling-time (series), 8 connections, $DURATION"
 wrk -t2 -c8 -d"$DURATION" --latency -s "$lua" "http://127.0.0.1:$PORT/v1/settling-time" | sed -n '/Latency Distribution/,/99%/p;/Requests\/sec/p'
 rm -f "$lua"
