@@ -6,14 +6,16 @@ A result's id is a content hash: SHA-256 of the canonical JSON of the validated 
 model's own serialisation: every field in its declared order, defaults filled in, the
 caller's ``ref`` and the ``store`` flag left out) and the service version, so the same question
 to the same version has the same id wherever it is asked, and a lab system can keep it as its
-trace. Records hold the request, the answer, the version and the time stored;
-an id already present is never overwritten (same id, same answer).
+trace. Records hold that canonical request (made once, for the hash and the record), the
+answer (which carries the caller's ``ref``), the version and the time stored; an id already
+present is never overwritten (same id, same answer).
 
 Writes are behind the answer: the record carries the request and the answer as the JSON text
 already made for the response, ``put`` only appends it to a deque (no lock, no thread woken:
 waking the writer was measured to cost the request more than the write itself), and one writer
-thread per store wakes every few milliseconds to insert what has gathered, in batches; ``get``
-looks among the queued before the database, so a process always finds what it has just stored.
+thread per store wakes every 50 ms to insert what has gathered, in batches (``flush`` wakes it
+at once); ``get`` looks among the queued before the database, so a process always finds what
+it has just stored, and other processes find it within about 50 ms.
 SQLite runs in WAL mode with a busy timeout,
 so several worker processes can share one file; PostgreSQL serves shared deployments. Records
 older than the retention are pruned when the writer starts and every ``_PRUNE_EVERY`` writes.
@@ -24,6 +26,7 @@ from __future__ import annotations
 
 import hashlib
 import json
+import logging
 import threading
 import time
 from collections import deque
@@ -35,16 +38,20 @@ from typing import Any
 import sqlalchemy as sa
 from pydantic import BaseModel
 
-__all__ = ["ResultStore", "StoredResult", "result_id"]
+__all__ = ["ResultStore", "StoredResult", "canonical_request", "result_id"]
 
-# The writer wakes this often (s) while records come, backing off to the second while none do;
-# it takes at most this many records per transaction, and prunes every so many writes.
-_WAKE_S = 0.005
-_IDLE_WAKE_S = 0.2
-_BATCH = 256
+# The writer wakes this often (s) while records come, backing off to a second while none do; it
+# takes at most this many records per transaction, and prunes every so many writes. Each wake
+# of a thread in the answering process was measured to slow the answers on a two-core machine
+# (a thread waking every 5 ms: ~0.1 ms an answer; every 50 ms: within the noise; see
+# benchmarks/store.py), so the writer wakes rarely and writes more at a time.
+_WAKE_S = 0.05
+_IDLE_WAKE_S = 1.0
+_BATCH = 128  # 768 parameters a statement: within even an old SQLite's 999
 _PRUNE_EVERY = 1000
 # SQLite waits this long (ms) for another process's write lock before failing.
 _BUSY_TIMEOUT_MS = 10_000
+_LOG = logging.getLogger(__name__)
 # Fields of a request that do not change its answer, left out of the id.
 _NOT_HASHED = ("ref", "store")
 
@@ -61,10 +68,17 @@ _RESULTS = sa.Table(
 )
 
 
-def result_id(request: BaseModel, version: str) -> str:
-    """The content hash of a validated request (its JSON, ``ref`` and ``store`` left out) and
-    the service version: 32 hexadecimal digits of its SHA-256."""
-    canonical = request.model_dump_json(exclude=set(_NOT_HASHED))
+def canonical_request(request: BaseModel) -> str:
+    """A validated request's canonical JSON: the model's own serialisation, every field in its
+    declared order with the defaults in force filled in, ``ref`` and ``store`` left out. It is
+    what the id hashes and what the store keeps as the request, so anyone can recompute a
+    stored result's id from its record."""
+    return request.model_dump_json(exclude=set(_NOT_HASHED))
+
+
+def result_id(canonical: str, version: str) -> str:
+    """The content hash of a canonical request (``canonical_request``) and the service
+    version: 32 hexadecimal digits of its SHA-256."""
     return hashlib.sha256(f"{version}\n{canonical}".encode()).hexdigest()[:32]
 
 
@@ -101,11 +115,13 @@ class ResultStore:
         # records waiting for the writer: appending to a deque takes no lock and wakes no
         # thread, so a request never hands the interpreter to the writer
         self._incoming: deque[StoredResult] = deque()
-        self._stop = threading.Event()
+        self._wake = threading.Event()
+        self._stopping = False
         self._busy = False
         self._pending: dict[str, StoredResult] = {}
         self._pending_lock = threading.Lock()
         self._writer: threading.Thread | None = None
+        self._driver: tuple[Any, Any] | None = None  # the writer's own connection
         self._written = 0
 
     @classmethod
@@ -138,18 +154,25 @@ class ResultStore:
             row.result_id, row.kind, row.version, stored_at, row.request, row.answer
         )
 
-    def flush(self) -> None:
-        """Wait until every queued record is written."""
+    def flush(self, timeout_s: float = 30.0) -> None:
+        """Wake the writer and wait until every queued record is written (TimeoutError if
+        the database does not take them in ``timeout_s``)."""
+        deadline = time.monotonic() + timeout_s
         while self._writer is not None and (self._incoming or self._busy):
+            if time.monotonic() > deadline:
+                raise TimeoutError(f"{len(self._incoming)} stored answers not yet written")
+            self._wake.set()
             time.sleep(0.001)
 
     def close(self) -> None:
         """Write what is queued, stop the writer and release the database."""
         if self._writer is not None:
-            self._stop.set()
+            self._stopping = True
+            self._wake.set()
             self._writer.join()
             self._writer = None
-            self._stop.clear()
+            self._stopping = False
+        self._drop_connection()
         if self._engine is not None:
             self._engine.dispose()
             self._engine = None
@@ -185,35 +208,76 @@ class ResultStore:
             self._writer.start()
 
     def _write_loop(self) -> None:
-        """Every few milliseconds while records come (less often while none do), write what
-        has queued in batches; on stop, write the rest and return."""
-        self.prune()
+        """Every ``_WAKE_S`` while records come (less often while none do), or when woken, write
+        what has queued in batches; on stop, write the rest and return. When the database
+        fails, the batch goes back to the front of the queue and is tried again a second
+        later (on stop, what cannot be written is reported as lost)."""
         pause = _WAKE_S
+        try:
+            self.prune()
+        except sa.exc.SQLAlchemyError:
+            _LOG.exception("pruning old stored answers failed; will try again later")
         while True:
-            stopping = self._stop.wait(pause)
+            self._wake.wait(pause)
+            self._wake.clear()
+            stopping = self._stopping
             wrote = False
-            while self._incoming:
-                self._busy = True
-                batch = [self._incoming.popleft() for _ in range(min(_BATCH, len(self._incoming)))]
-                self._insert(batch)
-                wrote = True
-            self._busy = False
+            try:
+                while self._incoming:
+                    self._busy = True
+                    count = min(_BATCH, len(self._incoming))
+                    batch = [self._incoming.popleft() for _ in range(count)]
+                    try:
+                        self._insert(batch)
+                    except Exception:
+                        self._incoming.extendleft(reversed(batch))
+                        raise
+                    wrote = True
+            except Exception:
+                self._drop_connection()
+                if stopping:
+                    _LOG.exception("%d stored answers could not be written", len(self._incoming))
+                    return
+                _LOG.exception("storing answers failed; trying again in %s s", _IDLE_WAKE_S)
+                pause = _IDLE_WAKE_S
+                continue
+            finally:
+                self._busy = False
             if stopping:
+                self._drop_connection()
                 return
             pause = _WAKE_S if wrote else min(2 * pause, _IDLE_WAKE_S)
 
     def _insert(self, batch: list[StoredResult]) -> None:
-        engine = self._open()
-        statement, stamp = _INSERTS[engine.dialect.name]
-        rows = [
-            (r.result_id, r.kind, r.version, stamp(r.stored_at), r.request_json, r.answer_json)
+        connection = self._writer_connection()
+        placeholder, stamp = _DIALECTS[self._open().dialect.name]
+        row = f"({', '.join([placeholder] * _FIELDS)})"
+        # One statement of many rows, on the driver's own connection in autocommit (the
+        # statement is its own transaction): the driver gives the interpreter up while the
+        # database works and the writer then waits to have it back, so the fewer calls a
+        # batch takes, the less the writer and the answering thread hand the interpreter to
+        # and fro (executemany did it for every row; measured in benchmarks/store.py).
+        statement = (
+            f"INSERT INTO results ({_COLUMNS}) VALUES {', '.join([row] * len(batch))} "
+            "ON CONFLICT (result_id) DO NOTHING"
+        )
+        values = tuple(
+            value
             for r in batch
-        ]
-        with engine.connect() as connection:
-            # the driver's own executemany: a few microseconds a record, so the writer
-            # competes little with the requests for the interpreter
-            connection.exec_driver_sql(statement, rows)
-            connection.commit()
+            for value in (
+                r.result_id,
+                r.kind,
+                r.version,
+                stamp(r.stored_at),
+                r.request_json,
+                r.answer_json,
+            )
+        )
+        cursor = connection.cursor()
+        try:
+            cursor.execute(statement, values)
+        finally:
+            cursor.close()
         with self._pending_lock:
             for record in batch:
                 self._pending.pop(record.result_id, None)
@@ -222,6 +286,28 @@ class ResultStore:
             self._written = 0
             self.prune()
 
+    def _writer_connection(self) -> Any:
+        """The writer's own driver connection (taken out of the pool, in autocommit)."""
+        if self._driver is None:
+            engine = self._open()
+            proxied = engine.raw_connection()
+            driver: Any = proxied.driver_connection
+            proxied.detach()  # the settings below must not go back to the pool
+            if engine.dialect.name == "sqlite":
+                driver.isolation_level = None
+            else:
+                driver.autocommit = True
+            self._driver = (proxied, driver)
+        return self._driver[1]
+
+    def _drop_connection(self) -> None:
+        if self._driver is not None:
+            try:
+                self._driver[0].close()
+            except Exception:  # already broken: nothing more to release
+                _LOG.debug("closing the writer's connection failed", exc_info=True)
+            self._driver = None
+
 
 def _sqlite_stamp(moment: datetime) -> str:
     """A time as SQLAlchemy's SQLite DateTime stores it (UTC, no offset)."""
@@ -229,19 +315,11 @@ def _sqlite_stamp(moment: datetime) -> str:
 
 
 _COLUMNS = "result_id, kind, version, stored_at, request, answer"
-# Per database: an INSERT that leaves an existing id alone (records are never overwritten),
-# in the driver's own parameter style, and how it takes a time.
-_INSERTS: dict[str, tuple[str, Any]] = {
-    "sqlite": (
-        f"INSERT INTO results ({_COLUMNS}) VALUES (?, ?, ?, ?, ?, ?) "
-        "ON CONFLICT (result_id) DO NOTHING",
-        _sqlite_stamp,
-    ),
-    "postgresql": (
-        f"INSERT INTO results ({_COLUMNS}) VALUES (%s, %s, %s, %s, %s, %s) "
-        "ON CONFLICT (result_id) DO NOTHING",
-        lambda moment: moment,
-    ),
+_FIELDS = 6
+# Per database: the driver's own parameter placeholder and how it takes a time.
+_DIALECTS: dict[str, tuple[str, Any]] = {
+    "sqlite": ("?", _sqlite_stamp),
+    "postgresql": ("%s", lambda moment: moment),
 }
 
 

@@ -13,7 +13,7 @@ import pytest
 import sqlalchemy as sa
 
 from service.models import SettlingRequest
-from service.store import ResultStore, StoredResult, result_id
+from service.store import ResultStore, StoredResult, canonical_request, result_id
 from tests.conftest import slab_request
 
 POSTGRES_URL = os.environ.get("MIXCLOCK_TEST_POSTGRES_URL")
@@ -85,6 +85,43 @@ def test_retention_prunes_old_records(url: str) -> None:
     store.close()
 
 
+def test_a_failed_write_is_tried_again(url: str, monkeypatch: pytest.MonkeyPatch) -> None:
+    """The database failing once (a dropped connection, a full disk) loses no record: the
+    batch goes back to the front of the queue, the writer drops its connection and lives on."""
+    store = ResultStore(url)
+    real_insert = store._insert
+    failures: list[int] = []
+
+    def fail_once(batch: list[StoredResult]) -> None:
+        if not failures:
+            failures.append(len(batch))
+            raise sa.exc.OperationalError("INSERT", {}, Exception("connection lost"))
+        real_insert(batch)
+
+    monkeypatch.setattr(store, "_insert", fail_once)
+    for i in range(5):
+        store.put(_record(f"r{i}"))
+    store.flush()
+    assert failures == [5]
+    store.close()
+    reader = ResultStore(url)
+    assert [reader.get(f"r{i}") is not None for i in range(5)] == [True] * 5
+    reader.close()
+
+
+def test_a_batch_larger_than_one_statement_is_written_whole(url: str) -> None:
+    """More records than one statement takes (several statements, in order)."""
+    store = ResultStore(url)
+    for i in range(300):
+        store.put(_record(f"many{i}", answer=float(i)))
+    store.flush()
+    store.close()
+    reader = ResultStore(url)
+    found = [reader.get(f"many{i}") for i in range(300)]
+    assert [r.answer["time_s"] if r else None for r in found] == [float(i) for i in range(300)]
+    reader.close()
+
+
 def test_several_writers_share_one_database(url: str) -> None:
     """Two stores (as two worker processes would) writing at once lose nothing."""
     stores = [ResultStore(url), ResultStore(url)]
@@ -108,15 +145,35 @@ def test_several_writers_share_one_database(url: str) -> None:
         store.close()
 
 
+def _id(request: SettlingRequest, version: str = "1") -> str:
+    return result_id(canonical_request(request), version)
+
+
 def test_result_id_is_a_hash_of_the_request_and_version() -> None:
     """The id follows the validated request (so the order keys came in does not matter), not
     the caller's reference or the store flag, and changes with the version."""
     case = slab_request()
     reordered = dict(reversed(list(case.items())))
     request = SettlingRequest.model_validate(case)
-    assert result_id(request, "1") == result_id(SettlingRequest.model_validate(reordered), "1")
+    assert _id(request) == _id(SettlingRequest.model_validate(reordered))
     tagged = SettlingRequest.model_validate({**case, "ref": "LIMS-7", "store": True})
-    assert result_id(tagged, "1") == result_id(request, "1")
-    assert result_id(request, "1") != result_id(request, "2")
+    assert _id(tagged) == _id(request)
+    assert _id(request, "1") != _id(request, "2")
     tighter = SettlingRequest.model_validate({**case, "accuracy": 1e-5})
-    assert result_id(request, "1") != result_id(tighter, "1")
+    assert _id(request) != _id(tighter)
+
+
+EXAMPLES = Path(__file__).resolve().parent.parent / "openapi_examples"
+
+
+@pytest.mark.parametrize(
+    "example", sorted(EXAMPLES.glob("settling-time.*.json")), ids=lambda path: path.stem
+)
+def test_the_canonical_request_reads_back_as_the_same_request(example: Path) -> None:
+    """The store keeps the canonical request: read back it must be the same request (same
+    canonical JSON, so the same id), for every example the API documents."""
+    request = SettlingRequest.model_validate(json.loads(example.read_text())["value"])
+    canonical = canonical_request(request)
+    again = SettlingRequest.model_validate_json(canonical)
+    assert canonical_request(again) == canonical
+    assert again == request.model_copy(update={"ref": None, "store": False})

@@ -20,7 +20,7 @@ from service.api.deps import (
     final_state_out,
 )
 from service.api.problems import PROBLEM_RESPONSES
-from service.api.results import answer_id, keep_answer
+from service.api.results import keep_answer, keeping
 from service.metrics import Metrics
 from service.models import LumpedOut, Method, SettlingRequest, SettlingResponse, WarningOut
 from service.models.responses import ReactionOut, ScheduleOut
@@ -71,9 +71,10 @@ def _respond(
     elapsed = time.perf_counter() - started
     if metrics is not None:
         metrics.observe_solve(answer.engine, answer.path, elapsed)
-    identity = answer_id(store, request)
+    kept = keeping(store, request)
+    identity = None if kept is None else kept.result_id
     response = settling_response(translation, answer, ref=request.ref, result_id=identity)
-    return keep_answer(store, "settling-time", request, response, elapsed)
+    return keep_answer(kept, "settling-time", response, elapsed)
 
 
 def settling_response(

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from dataclasses import dataclass
 from datetime import UTC, datetime
 
 from fastapi import APIRouter, Response
@@ -20,36 +21,45 @@ from service.api.problems import PROBLEM_RESPONSES
 from service.errors import NotFound
 from service.models import SettlingRequest
 from service.models.responses import SettlingResponse, StoredResultOut
-from service.store import ResultStore, StoredResult, result_id
+from service.store import ResultStore, StoredResult, canonical_request, result_id
 
-__all__ = ["answer_id", "keep_answer", "router"]
+__all__ = ["Keeping", "keep_answer", "keeping", "router"]
 
 router = APIRouter(tags=["results"])
 
 
-def answer_id(store: ResultStore | None, request: SettlingRequest) -> str | None:
-    """The id an answer will be stored under, or None when it is not to be stored."""
-    return None if store is None else result_id(request, __version__)
+@dataclass(frozen=True)
+class Keeping:
+    """An answer that is to be stored: its store, its canonical request and the id."""
+
+    store: ResultStore
+    canonical: str
+    result_id: str
+
+
+def keeping(store: ResultStore | None, request: SettlingRequest) -> Keeping | None:
+    """What storing this answer needs (the canonical request is made once, for the id and
+    the record), or None when it is not to be stored."""
+    if store is None:
+        return None
+    canonical = canonical_request(request)
+    return Keeping(store, canonical, result_id(canonical, __version__))
 
 
 def keep_answer(
-    store: ResultStore | None,
-    kind: str,
-    request: SettlingRequest,
-    response: SettlingResponse,
-    solve_seconds: float,
+    kept: Keeping | None, kind: str, response: SettlingResponse, solve_seconds: float
 ) -> Response:
-    """The answer as JSON; when a store is given (the response then carries its id), queued
+    """The answer as JSON; when it is to be stored (the response then carries its id), queued
     for the store with the same JSON text: the answer does not wait for the database."""
     content = response.model_dump_json()
-    if store is not None and response.result_id is not None:
-        store.put(
+    if kept is not None:
+        kept.store.put(
             StoredResult(
-                result_id=response.result_id,
+                result_id=kept.result_id,
                 kind=kind,
                 version=__version__,
                 stored_at=datetime.now(UTC),
-                request_json=request.model_dump_json(exclude_unset=True),
+                request_json=kept.canonical,
                 answer_json=content,
             )
         )
@@ -63,8 +73,9 @@ def keep_answer(
     summary="A stored answer with its request",
 )
 async def stored_result(result_id: str, store: StoreDep) -> Response:
-    """The request and the answer stored under ``result_id``, with the version that answered
-    and when."""
+    """The request (canonical: every default in force filled in, so that its SHA-256 with the
+    version gives the id back) and the answer (with the caller's ``ref``) stored under
+    ``result_id``, with the version that answered and when."""
     record = _found(store, result_id)
     return json_response(
         StoredResultOut(

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import hashlib
 import json
 from pathlib import Path
 from typing import Any
@@ -26,8 +27,14 @@ def test_a_stored_answer_is_returned_with_its_request(client: TestClient) -> Non
     assert stored.status_code == 200, stored.text
     body = stored.json()
     assert body["answer"] == answer
-    assert body["request"]["ref"] == "LIMS-1"
     assert body["kind"] == "settling-time"
+    # the request is kept canonical: the defaults in force filled in, the caller's ref and the
+    # store flag left out (the ref is in the answer), so the id can be recomputed from it
+    assert "ref" not in body["request"] and "store" not in body["request"]
+    assert body["request"]["accuracy"] == 1e-4
+    canonical = json.dumps(body["request"], separators=(",", ":"))
+    version = client.get("/healthz").json()["version"]
+    assert hashlib.sha256(f"{version}\n{canonical}".encode()).hexdigest()[:32] == identity
 
 
 def test_the_id_is_the_request_not_the_callers_reference(client: TestClient) -> None:
