@@ -41,10 +41,14 @@ from pydantic import BaseModel
 __all__ = ["ResultStore", "StoredResult", "canonical_request", "result_id"]
 
 # The writer wakes this often (s) while records come, backing off to a second while none do; it
-# takes at most this many records per transaction, and prunes every so many writes. Each wake
-# of a thread in the answering process was measured to slow the answers on a two-core machine
-# (a thread waking every 5 ms: ~0.1 ms an answer; every 50 ms: within the noise; see
-# benchmarks/store.py), so the writer wakes rarely and writes more at a time.
+# takes at most this many records per statement, and prunes every so many writes. Whenever the
+# writer needs the interpreter back (after each wake and each database call) while an answer
+# is being computed, the two threads hand it to and fro and the answer slows: measured on a
+# two-core machine, waking every 5 ms and inserting row by row (executemany) made every
+# answer in the process 0.1-0.2 ms slower; waking every 50 ms with one statement a batch,
+# storing adds 20-110 µs (mean 68) to a stored answer's median over HTTP (benchmarks/http.sh,
+# benchmarks/store.py). Waking less often gained little more, and delays what other worker
+# processes see.
 _WAKE_S = 0.05
 _IDLE_WAKE_S = 1.0
 _BATCH = 128  # 768 parameters a statement: within even an old SQLite's 999
