@@ -8,8 +8,14 @@ Two figures:
    application whose store is SQLite in a temporary folder written behind by its thread.
    Blocks rather than single requests, so that whatever the writer thread costs the answers
    while it works falls on the stored block that gave it the work; the third block is the
-   control, its difference from the first the machine's own drift. Reported: the median over
-   the rounds of the time per answer a block adds, with the quartiles.
+   control, its difference from the first the machine's own drift (and whatever the writing
+   leaves behind it). Reported: the median over the rounds of the time per answer a block
+   adds, with the quartiles. The answering thread is kept busy all the time, the worst case
+   for the writer, which must take the interpreter from it; over HTTP with one connection the
+   server idles between requests and the writer mostly works then (benchmarks/http.sh).
+   Two references each run in a process of their own: one that never stores (its unstored
+   answers), and one that makes the id and the record but drops the record instead of
+   queueing it (what storing costs without the writing).
 2. The writer's own work per record, as the CPU time of the thread that inserts them
    (``time.thread_time``, untouched by what else the machine does), for a batch of the size a
    worker answering 1000 stored requests a second gathers between two wakes, and a full batch.
@@ -43,12 +49,17 @@ EXAMPLE = Path(__file__).resolve().parent.parent / "openapi_examples"
 
 
 async def through_the_app(
-    case: dict[str, Any], never_store: bool = False
+    case: dict[str, Any], mode: str = "write"
 ) -> tuple[list[float], list[float], float, bytes]:
     """Per round: µs an answer a stored block adds, and a second unstored block (control);
-    the median time of an unstored answer; an answer's JSON. With ``never_store`` every
-    block is unstored (a process whose writer never starts)."""
+    the median time of an unstored answer; an answer's JSON. ``mode``: "write" (as served),
+    "discard" (the id and the record made, the record dropped instead of queued: what
+    storing costs without the writing) or "never" (every block unstored: a process whose
+    writer never starts)."""
     app = create_app(Settings(data_dir=Path(tempfile.mkdtemp())))
+    if mode == "discard":
+        setattr(app.state.store, "put", lambda record: None)  # noqa: B010 (an instance's own)
+    never_store = mode == "never"
     answers: list[bytes] = []
 
     async def call(body: bytes) -> None:
@@ -129,16 +140,24 @@ def writer_part(answer_json: str, request_json: str, size: int) -> float:
 
 def main() -> None:
     case = json.loads((EXAMPLE / "settling-time.bead-release.json").read_text())["value"]
-    if "--never-store" in sys.argv:  # the reference, run in a process of its own
-        print(f"{asyncio.run(through_the_app(case, never_store=True))[2]:.1f}")
+    if "--mode" in sys.argv:  # a reference, run in a process of its own
+        added, _, plain, _ = asyncio.run(through_the_app(case, sys.argv[-1]))
+        print(f"{plain:.1f} {statistics.median(added):.1f}")
         return
-    never = subprocess.run(
-        [sys.executable, __file__, "--never-store"], capture_output=True, text=True, check=True
-    )
+
+    def in_own_process(mode: str) -> tuple[float, float]:
+        done = subprocess.run(
+            [sys.executable, __file__, "--mode", mode], capture_output=True, text=True, check=True
+        )
+        plain, added = done.stdout.split()
+        return float(plain), float(added)
+
+    never, _ = in_own_process("never")
+    _, discarded = in_own_process("discard")
     added, control, plain, answer = asyncio.run(through_the_app(case))
     print(
         f"an unstored answer through the app: median {plain:.0f} µs beside stored ones, "
-        f"{float(never.stdout):.0f} µs in a process that never stores"
+        f"{never:.0f} µs in a process that never stores"
     )
     for label, values in (("storing adds", added), ("control (unstored again)", control)):
         quartiles = statistics.quantiles(values, n=4)
@@ -146,6 +165,10 @@ def main() -> None:
             f"{label}: {statistics.median(values):.1f} µs an answer (quartiles "
             f"{quartiles[0]:.1f} to {quartiles[2]:.1f}; {ROUNDS} rounds of {BLOCK})"
         )
+    print(
+        f"the id and the record alone (record dropped, not written; own process): adds "
+        f"{discarded:.1f} µs, so the writing's share is {statistics.median(added) - discarded:.1f}"
+    )
     request = json.dumps(case)
     for size in BATCHES:
         per_record = writer_part(answer.decode(), request, size)
