@@ -11,8 +11,9 @@ answer (which carries the caller's ``ref``), the version and the time stored; an
 present is never overwritten (same id, same answer).
 
 Writes are behind the answer: the record carries the request and the answer as the JSON text
-already made for the response, ``put`` only appends it to a deque (no lock, no thread woken:
-waking the writer was measured to cost the request more than the write itself), and one writer
+already made for the response, ``put`` only notes it among the pending and appends it to a
+deque (no thread woken: waking the writer was measured to cost the request more than the write
+itself), and one writer
 thread per store wakes every 50 ms to insert what has gathered, in batches (``flush`` wakes it
 at once); ``get`` looks among the queued before the database, so a process always finds what
 it has just stored, and other processes find it within about 50 ms.
@@ -47,8 +48,8 @@ __all__ = ["ResultStore", "StoredResult", "canonical_request", "result_id"]
 # two-core machine, waking every 5 ms and inserting row by row (executemany) made every
 # answer in the process 0.1-0.2 ms slower; waking every 50 ms with one statement a batch,
 # storing adds 20-110 µs (mean 68) to a stored answer's median over HTTP (benchmarks/http.sh,
-# benchmarks/store.py). Waking less often gained little more, and delays what other worker
-# processes see.
+# benchmarks/store.py). Waking every 200 ms measured no better (within the noise over HTTP,
+# worse with the answering thread kept busy) and delays what other worker processes see.
 _WAKE_S = 0.05
 _IDLE_WAKE_S = 1.0
 _BATCH = 128  # 768 parameters a statement: within even an old SQLite's 999
