@@ -31,6 +31,7 @@ import logging
 import threading
 import time
 from collections import deque
+from collections.abc import Callable
 from dataclasses import dataclass
 from datetime import UTC, datetime, timedelta
 from pathlib import Path
@@ -238,6 +239,9 @@ class ResultStore:
                         self._incoming.extendleft(reversed(batch))
                         raise
                     wrote = True
+                if self._written >= _PRUNE_EVERY:
+                    self._written = 0
+                    self.prune()
             except Exception:
                 self._drop_connection()
                 if stopping:
@@ -255,8 +259,8 @@ class ResultStore:
 
     def _insert(self, batch: list[StoredResult]) -> None:
         connection = self._writer_connection()
-        placeholder, stamp = _DIALECTS[self._open().dialect.name]
-        row = f"({', '.join([placeholder] * _FIELDS)})"
+        driver = _DRIVERS[self._open().dialect.name]
+        row = f"({', '.join([driver.placeholder] * _FIELDS)})"
         # One statement of many rows, on the driver's own connection in autocommit (the
         # statement is its own transaction): the driver gives the interpreter up while the
         # database works and the writer then waits to have it back, so the fewer calls a
@@ -273,7 +277,7 @@ class ResultStore:
                 r.result_id,
                 r.kind,
                 r.version,
-                stamp(r.stored_at),
+                driver.stamp(r.stored_at),
                 r.request_json,
                 r.answer_json,
             )
@@ -287,9 +291,6 @@ class ResultStore:
             for record in batch:
                 self._pending.pop(record.result_id, None)
         self._written += len(batch)
-        if self._written >= _PRUNE_EVERY:
-            self._written = 0
-            self.prune()
 
     def _writer_connection(self) -> Any:
         """The writer's own driver connection (taken out of the pool, in autocommit)."""
@@ -297,11 +298,8 @@ class ResultStore:
             engine = self._open()
             proxied = engine.raw_connection()
             driver: Any = proxied.driver_connection
-            proxied.detach()  # the settings below must not go back to the pool
-            if engine.dialect.name == "sqlite":
-                driver.isolation_level = None
-            else:
-                driver.autocommit = True
+            proxied.detach()  # autocommit must not go back to the pool
+            _DRIVERS[engine.dialect.name].autocommit(driver)
             self._driver = (proxied, driver)
         return self._driver[1]
 
@@ -319,12 +317,28 @@ def _sqlite_stamp(moment: datetime) -> str:
     return moment.astimezone(UTC).strftime("%Y-%m-%d %H:%M:%S.%f")
 
 
+def _sqlite_autocommit(driver: Any) -> None:
+    driver.isolation_level = None
+
+
+def _psycopg_autocommit(driver: Any) -> None:
+    driver.autocommit = True
+
+
+@dataclass(frozen=True)
+class _Driver:
+    """What the writer needs to know of a database's driver."""
+
+    placeholder: str  # its parameter placeholder
+    stamp: Callable[[datetime], Any]  # how it takes a time
+    autocommit: Callable[[Any], None]  # how a connection of it is put in autocommit
+
+
 _COLUMNS = "result_id, kind, version, stored_at, request, answer"
 _FIELDS = 6
-# Per database: the driver's own parameter placeholder and how it takes a time.
-_DIALECTS: dict[str, tuple[str, Any]] = {
-    "sqlite": ("?", _sqlite_stamp),
-    "postgresql": ("%s", lambda moment: moment),
+_DRIVERS = {
+    "sqlite": _Driver("?", _sqlite_stamp, _sqlite_autocommit),
+    "postgresql": _Driver("%s", lambda moment: moment, _psycopg_autocommit),
 }
 
 
